@@ -1,0 +1,244 @@
+/**
+ * Shared CLI plumbing: error → exit code mapping, messages on stderr, JSON on stdout, atomic output
+ * folders, option parsing. Commands stay thin: parse, call the library, write files.
+ *
+ * Exit codes (DESIGN §3): 0 success (warnings allowed), 1 processing failed, 2 usage or input error,
+ * 3 (`check` only) images unusable for measurement.
+ */
+import { createHash } from 'node:crypto';
+import { createReadStream, existsSync, promises as fsp, statSync } from 'node:fs';
+import path from 'node:path';
+import { RhofieldError, invalidParameter, VERSION } from '@rhofield/core';
+
+export const EXIT = { ok: 0, failed: 1, usage: 2, unusable: 3 } as const;
+
+export const EXIT_CODES_HELP = `
+Exit codes:
+  0  success (warnings may have been printed)
+  1  processing failed
+  2  usage or input error (bad option, unreadable file, bad setup); nothing was written
+  3  (check only) the images are unusable for measurement`;
+
+/** Verbosity and output mode shared by every command. */
+export interface GlobalOpts {
+  json?: boolean;
+  quiet?: boolean;
+  verbose?: boolean;
+}
+
+/** Human messages go to stderr; honours --quiet / --verbose. */
+export class Log {
+  constructor(private readonly o: GlobalOpts = {}) {}
+  info(msg: string): void {
+    if (!this.o.quiet) process.stderr.write(msg + '\n');
+  }
+  warn(msg: string): void {
+    process.stderr.write('rhofield: warning: ' + msg + '\n');
+  }
+  debug(msg: string): void {
+    if (this.o.verbose) process.stderr.write('rhofield: ' + msg + '\n');
+  }
+  /** Machine summary on stdout (only with --json). */
+  json(obj: unknown): void {
+    if (this.o.json) process.stdout.write(JSON.stringify(obj, null, 2) + '\n');
+  }
+}
+
+/** Map any thrown value to a one-line message and an exit code; stack only with --verbose. */
+export function reportError(err: unknown, verbose = false): number {
+  if (err instanceof RhofieldError) {
+    process.stderr.write(`rhofield: error: ${err.message}\n`);
+    if (verbose && err.stack) process.stderr.write(err.stack + '\n');
+    return err.kind === 'processing' ? EXIT.failed : err.kind === 'unusable' ? EXIT.unusable : EXIT.usage;
+  }
+  const e = err as NodeJS.ErrnoException;
+  if (e && typeof e === 'object' && typeof e.code === 'string' && e.code.startsWith('E') && 'path' in e) {
+    const what: Record<string, string> = {
+      ENOENT: 'does not exist; check the path',
+      EACCES: 'is not accessible; check permissions',
+      EPERM: 'is not accessible; check permissions',
+      ENOSPC: 'could not be written: the disk is full; free space and rerun',
+      EROFS: 'could not be written: read-only file system; choose another --out',
+      ENOTDIR: 'is not a folder; check the path',
+      EISDIR: 'is a folder, expected a file; check the path',
+    };
+    process.stderr.write(`rhofield: error: ${String(e.path)} ${what[e.code] ?? `failed (${e.code})`}\n`);
+    return e.code === 'ENOSPC' ? EXIT.failed : EXIT.usage;
+  }
+  const msg = err instanceof Error ? err.message : String(err);
+  process.stderr.write(`rhofield: error: processing failed: ${msg.split('\n')[0]}\n`);
+  if (verbose && err instanceof Error && err.stack) process.stderr.write(err.stack + '\n');
+  return EXIT.failed;
+}
+
+/** SHA-256 of a file, hex. */
+export async function sha256File(file: string): Promise<string> {
+  const h = createHash('sha256');
+  await new Promise<void>((resolve, reject) => {
+    createReadStream(file)
+      .on('data', (c) => h.update(c))
+      .on('end', () => resolve())
+      .on('error', reject);
+  });
+  return h.digest('hex');
+}
+
+/** Parse an integer option, rejecting NaN and out-of-range values with the usual message. */
+export function parseIntOpt(name: string, raw: string | number | undefined, min: number, max = Infinity): number | undefined {
+  if (raw === undefined) return undefined;
+  const v = typeof raw === 'number' ? raw : Number(raw);
+  if (!Number.isInteger(v) || v < min || v > max) {
+    throw invalidParameter(name, `an integer ${min}${max === Infinity ? ' or more' : `–${max}`}`, raw);
+  }
+  return v;
+}
+
+/** Parse a floating-point option. */
+export function parseNumOpt(name: string, raw: string | number | undefined, min = -Infinity, max = Infinity): number | undefined {
+  if (raw === undefined) return undefined;
+  const v = typeof raw === 'number' ? raw : Number(raw);
+  if (!Number.isFinite(v) || v < min || v > max) {
+    throw invalidParameter(name, `a number${min > -Infinity ? ` ≥ ${min}` : ''}${max < Infinity ? ` ≤ ${max}` : ''}`, raw);
+  }
+  return v;
+}
+
+/** Fail early, naming the file, if an input path is missing or not a file. */
+export function requireFile(label: string, file: string): void {
+  if (!existsSync(file)) throw new RhofieldError('input', `${label} ${file} does not exist; check the path`);
+  if (!statSync(file).isFile()) throw new RhofieldError('input', `${label} ${file} is not a file; check the path`);
+}
+
+/**
+ * An output folder written atomically: files go to a hidden sibling staging folder and the whole folder
+ * is renamed into place at `commit()`. An existing folder with files is refused unless `force`; with
+ * `force` it is replaced only when the new results are complete. `abort()` removes the staging folder.
+ */
+export class OutputDir {
+  readonly staging: string;
+  private done = false;
+  private constructor(readonly target: string, private readonly force: boolean) {
+    const parent = path.dirname(path.resolve(target));
+    this.staging = path.join(parent, `.${path.basename(target)}.rhofield-partial-${process.pid}-${Date.now()}`);
+  }
+
+  /** Check the target and create the staging folder. Throws a usage error if results exist and !force. */
+  static async open(target: string, force = false): Promise<OutputDir> {
+    if (!target) throw invalidParameter('--out', 'an output folder', target);
+    const abs = path.resolve(target);
+    if (existsSync(abs)) {
+      if (!statSync(abs).isDirectory()) throw new RhofieldError('usage', `--out ${target} exists and is not a folder; choose another path`);
+      const entries = await fsp.readdir(abs);
+      if (entries.length > 0 && !force) {
+        throw new RhofieldError('usage', `--out ${target} already holds results; pass --force to replace them or choose another folder`);
+      }
+    }
+    const parent = path.dirname(abs);
+    try {
+      await fsp.mkdir(parent, { recursive: true });
+    } catch (e) {
+      throw new RhofieldError('usage', `--out ${target}: cannot create parent folder (${(e as Error).message}); choose a writable path`);
+    }
+    const d = new OutputDir(abs, force);
+    try {
+      await fsp.mkdir(d.staging, { recursive: true });
+    } catch (e) {
+      throw new RhofieldError('usage', `--out ${target} is not writable (${(e as NodeJS.ErrnoException).code ?? 'error'}); choose a writable folder`);
+    }
+    return d;
+  }
+
+  /** Path of a file inside the staging folder. */
+  file(name: string): string {
+    return path.join(this.staging, name);
+  }
+
+  async writeFile(name: string, data: string | Uint8Array): Promise<void> {
+    await fsp.writeFile(this.file(name), data);
+  }
+
+  /** Move the complete results into place. */
+  async commit(): Promise<void> {
+    if (this.done) return;
+    if (existsSync(this.target)) {
+      const entries = await fsp.readdir(this.target);
+      if (entries.length > 0 && !this.force) {
+        throw new RhofieldError('usage', `--out ${this.target} was filled by another process meanwhile; rerun with --force or another folder`);
+      }
+      const old = this.staging + '-old';
+      await fsp.rename(this.target, old);
+      await fsp.rename(this.staging, this.target);
+      await fsp.rm(old, { recursive: true, force: true });
+    } else {
+      await fsp.rename(this.staging, this.target);
+    }
+    this.done = true;
+  }
+
+  /** Remove the staging folder (on any failure). */
+  async abort(): Promise<void> {
+    if (this.done) return;
+    this.done = true;
+    await fsp.rm(this.staging, { recursive: true, force: true });
+  }
+}
+
+/** Write JSON atomically (temp file + rename) to a plain path. */
+export async function writeFileAtomic(file: string, data: string | Uint8Array): Promise<void> {
+  const tmp = `${file}.tmp-${process.pid}-${Date.now()}`;
+  try {
+    await fsp.writeFile(tmp, data);
+    await fsp.rename(tmp, file);
+  } catch (e) {
+    await fsp.rm(tmp, { force: true });
+    throw e;
+  }
+}
+
+/** The git commit of the checkout the tool runs from, when available. */
+export function gitCommit(): string | null {
+  try {
+    let dir = path.dirname(new URL(import.meta.url).pathname);
+    for (let i = 0; i < 8; i++) {
+      const head = path.join(dir, '.git', 'HEAD');
+      if (existsSync(head)) {
+        const ref = require_read(head).trim();
+        if (ref.startsWith('ref: ')) {
+          const refFile = path.join(dir, '.git', ref.slice(5));
+          if (existsSync(refFile)) return require_read(refFile).trim();
+          const packed = path.join(dir, '.git', 'packed-refs');
+          if (existsSync(packed)) {
+            const line = require_read(packed).split('\n').find((l) => l.endsWith(' ' + ref.slice(5)));
+            if (line) return line.split(' ')[0] ?? null;
+          }
+          return null;
+        }
+        return ref;
+      }
+      dir = path.dirname(dir);
+    }
+  } catch {
+    /* no git: fine */
+  }
+  return null;
+}
+
+import { readFileSync } from 'node:fs';
+function require_read(f: string): string {
+  return readFileSync(f, 'utf8');
+}
+
+/** Provenance block common to every result.json. */
+export function provenance(): { tool: string; version: string; gitCommit: string | null; node: string; createdUtc: string } {
+  return { tool: 'rhofield', version: VERSION, gitCommit: gitCommit(), node: process.version, createdUtc: new Date().toISOString() };
+}
+
+/** Time a stage and record it in `timings` (seconds). */
+export async function timed<T>(timings: Record<string, number>, stage: string, fn: () => Promise<T> | T): Promise<T> {
+  const t0 = performance.now();
+  try {
+    return await fn();
+  } finally {
+    timings[stage] = +((performance.now() - t0) / 1000).toFixed(4);
+  }
+}
