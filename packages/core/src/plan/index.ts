@@ -1,1 +1,4 @@
-export {};
+export type { PlanSetupInput, PlanCamera, PlanGeometry, PlanFlow, PlanExpected } from './types.js';
+export type { PlanOptions, PlanVerdict, SetupPlan } from './planSetup.js';
+export { planSetup, flowToBackgroundForGain } from './planSetup.js';
+export { formatPlan } from './formatPlan.js';
