@@ -1,4 +1,7 @@
 /** The command registry: each entry adds one subcommand to the program. */
 import type { Command } from 'commander';
+import { register as plan } from './plan.js';
 
-export const commands: Array<(program: Command) => void> = [];
+export const commands: Array<(program: Command) => void> = [
+  plan,
+];

@@ -1,0 +1,45 @@
+/**
+ * `rhofield plan --setup FILE`: what a planned setup will see (magnification, fields of view, expected
+ * displacement, sensitivity, blur, dot and window advice, verdict). Table on stderr, --json on stdout.
+ */
+import type { Command } from 'commander';
+import { formatPlan, loadSetup, planSetup } from '@rhofield/core';
+import { Log, parseNumOpt } from '../common.js';
+
+/** Safety caution shown in --help of commands that plan or imitate real experiments. */
+export const SAFETY_HELP = `
+Safety: flames, hot surfaces, compressed or asphyxiant gases and high-speed or pressurised facilities
+are hazardous. This tool only computes optics; defer to local codes, the facility's rules and licensed
+practice. Printed backgrounds lit by strong lamps or LEDs: check the lighting against IEC 62471.`;
+
+interface PlanOpts {
+  setup: string;
+  noise?: string;
+  fill?: string;
+  json?: boolean;
+  quiet?: boolean;
+  verbose?: boolean;
+}
+
+export function register(program: Command): void {
+  program
+    .command('plan')
+    .description('Predict what a planned setup will measure, before building it: magnification, fields of view, expected displacement, smallest detectable gradient, blur, printed dot size, window size, and the one change that would help most.')
+    .requiredOption('--setup <file>', 'setup file (JSON, DESIGN §3a); needs camera.fNumber, camera.sensorPx and expected')
+    .option('--noise <px>', 'displacement noise of the correlation, px (default 0.05, common practice)')
+    .option('--fill <fraction>', 'fill fraction of the printed pattern used for the window advice (default 0.4)')
+    .option('--json', 'print the plan as JSON on stdout')
+    .option('--quiet', 'no table on stderr')
+    .option('--verbose', 'more detail on errors')
+    .option('--force', 'accepted for uniformity; plan writes no files')
+    .addHelpText('after', SAFETY_HELP)
+    .action((o: PlanOpts) => {
+      const log = new Log(o);
+      const noisePx = parseNumOpt('--noise', o.noise, 1e-6, 100);
+      const fill = parseNumOpt('--fill', o.fill, 1e-6, 0.5);
+      const setup = loadSetup(o.setup);
+      const pl = planSetup(setup, { ...(noisePx !== undefined ? { noisePx } : {}), ...(fill !== undefined ? { fill } : {}) });
+      log.info(formatPlan(pl).trimEnd());
+      log.json({ command: 'plan', setup: o.setup, ...pl });
+    });
+}
