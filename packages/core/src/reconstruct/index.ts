@@ -1,1 +1,11 @@
-export {};
+export { poissonDct } from './poissonDct.js';
+export type { PoissonCgOptions, PoissonCgResult } from './poissonCg.js';
+export { poissonCg } from './poissonCg.js';
+export { abelDeflectionOperator, abelInvertDeflection } from './abelDeflection.js';
+export { findSymmetryAxis } from './findSymmetryAxis.js';
+export { axisymmetricDensity } from './axisymmetricDensity.js';
+export type { PoissonSolver, PlanarDensityResult } from './planarDensity.js';
+export { planarDensity } from './planarDensity.js';
+export { TEMPERATURE_NOTE, temperatureFromDensity } from './temperatureFromDensity.js';
+export type { ReconstructOptions, DensitySummary, DensityResult } from './reconstructDensity.js';
+export { reconstructDensity } from './reconstructDensity.js';
