@@ -99,7 +99,7 @@ export function parseSetup(json: unknown, source = 'setup'): Setup {
     if (entries.length === 0) throw invalidParameter(at('medium.mixture'), 'at least one gas with its mass fraction', m.mixture);
     const sum = entries.reduce((a, [, y]) => a + y, 0);
     if (Math.abs(sum - 1) > 1e-6) {
-      throw described(at('medium.mixture'), 'mass fractions summing to 1 (± 1e-6)', `fractions summing to ${sum}`, 'normalise the fractions');
+      throw described(at('medium.mixture'), 'mass fractions summing to 1 (± 1e-6)', `fractions summing to ${+sum.toPrecision(10)}`, 'normalise the fractions');
     }
   }
   if (flow.type === 'planar' && typeof flow.reference === 'object') {
