@@ -1,7 +1,9 @@
 /** The command registry: each entry adds one subcommand to the program. */
 import type { Command } from 'commander';
 import { register as plan } from './plan.js';
+import { register as pattern } from './pattern.js';
 
 export const commands: Array<(program: Command) => void> = [
   plan,
+  pattern,
 ];

@@ -2,3 +2,5 @@ export type { PlanSetupInput, PlanCamera, PlanGeometry, PlanFlow, PlanExpected }
 export type { PlanOptions, PlanVerdict, SetupPlan } from './planSetup.js';
 export { planSetup, flowToBackgroundForGain } from './planSetup.js';
 export { formatPlan } from './formatPlan.js';
+export type { DotSizeInput, DotSizeAdvice } from './recommendDotDiameter.js';
+export { recommendDotDiameter } from './recommendDotDiameter.js';

@@ -26,6 +26,7 @@
 import { invalidParameter } from '../util/errors.js';
 import { mediumConstants } from '../optics/medium.js';
 import type { PlanSetupInput } from './types.js';
+import { recommendDotDiameter } from './recommendDotDiameter.js';
 
 /** Options of {@link planSetup}. */
 export interface PlanOptions {
@@ -202,10 +203,9 @@ export function planSetup(setup: PlanSetupInput, opts: PlanOptions = {}): SetupP
   const diff = 2.44 * N * (1 + M) * lambda;
   const diffPx = diff / p;
 
-  const target = targetDotPx * p;
-  const geo = target > diff ? Math.sqrt(target * target - diff * diff) / M : 0;
-  const dot = Math.max(0.05e-3, Math.round(geo / 0.05e-3) * 0.05e-3);
-  const dotImgPx = Math.sqrt((M * dot) ** 2 + diff * diff) / p;
+  const dotAdvice = recommendDotDiameter({ focalLength: f, fNumber: N, pixelPitch: p, lensToBackground: zb, wavelength: lambda }, targetDotPx);
+  const dot = dotAdvice.dotDiameter;
+  const dotImgPx = dotAdvice.dotImagePx;
   // dots per px² with fill φ: φ / (π·(D_img/2)²) using the geometric image size M·D.
   const geoImgPx = (M * dot) / p;
   const perPx2 = fill / ((Math.PI * geoImgPx * geoImgPx) / 4);

@@ -1,4 +1,7 @@
 export {};
+export type { PatternOptions, DotPattern } from './pattern.js';
+export { generatePattern, parseLength, patternToSvg, patternToPdf, patternToPng, patternPngSize } from './pattern.js';
+export { MAX_PNG_PIXELS, MAX_PAGE_SIDE, MAX_PATTERN_DOTS } from './pattern.js';
 export type { DensityScene, PlanarGaussianOptions, AxisymmetricGaussianOptions, ObliqueShockOptions } from './density.js';
 export { planarGaussianScene, axisymmetricGaussianScene, obliqueShockScene, obliqueShockAngle, obliqueShockDensityRatio } from './density.js';
 export { sceneDisplacement, sceneBackgroundMask, sceneDensityOnGrid, sceneDisplacementOnGrid } from './density.js';
