@@ -4,7 +4,10 @@ import { createRequire } from 'node:module';
 import { generatePattern, parseLength, patternToPdf, patternToPng, patternToSvg, patternPngSize } from '@rhofield/core';
 
 // sharp is a dependency of @rhofield/core only (strict installs): resolve it from there.
-const sharp = createRequire(new URL('../../packages/core/package.json', import.meta.url))('sharp') as typeof import('sharp');
+const sharp = createRequire(new URL('../../packages/core/package.json', import.meta.url))('sharp') as SharpLike;
+type SharpLike = (input: Uint8Array) => {
+  toColourspace(s: string): { raw(): { toBuffer(o: { resolveWithObject: true }): Promise<{ data: Uint8Array; info: { width: number; height: number } }> } };
+};
 
 /** Check values: 1 in = 25.4 mm exactly (international inch, 1959); 1 pt = 1/72 in (PDF, ISO 32000-1 §8.3.2.3). */
 const PT_PER_MM = 72 / 25.4;
