@@ -11,6 +11,28 @@
 import { abelInvertDeflection } from './abelDeflection.js';
 
 /**
+ * Value of samples v[off + i·stride], i = 0…len−1, at fractional index u (0 ≤ u ≤ len − 1): cubic
+ * convolution (Keys, R. (1981). Cubic convolution interpolation for digital image processing. IEEE
+ * Trans. ASSP 29(6):1153–1160, a = −0.5) where four finite neighbours exist, linear otherwise.
+ */
+function interp(v: ArrayLike<number>, off: number, stride: number, len: number, u: number): number {
+  if (len === 1) return v[off]!;
+  const i = Math.min(Math.floor(u), len - 2);
+  const t = u - i;
+  const a = v[off + i * stride]!;
+  if (t === 0) return a;
+  const b = v[off + (i + 1) * stride]!;
+  if (i >= 1 && i + 2 < len) {
+    const m = v[off + (i - 1) * stride]!;
+    const c = v[off + (i + 2) * stride]!;
+    if (Number.isFinite(m) && Number.isFinite(c) && Number.isFinite(a) && Number.isFinite(b)) {
+      return a + 0.5 * t * (b - m + t * (2 * m - 5 * a + 4 * b - c + t * (3 * (a - b) + c - m)));
+    }
+  }
+  return a + (b - a) * t;
+}
+
+/**
  * @param normal deflection normal to the axis, rad, `lines × samples` row-major, positive toward
  *   larger sample position; NaN = no data.
  * @param positionsPx sample positions along a line, px (uniform step).
@@ -38,15 +60,8 @@ export function axisymmetricDensity(
   const rho = new Float64Array(lines * samples);
   const radiusPx = new Float64Array(samples);
   for (let c = 0; c < samples; c++) radiusPx[c] = Math.abs(positionsPx[c]! - axisPx);
-  const at = (line: number, u: number): number => {
-    // caller guarantees 0 ≤ u ≤ samples − 1
-    const i = Math.min(Math.floor(u), Math.max(samples - 2, 0));
-    const t = u - i;
-    const a = normal[line * samples + i]!;
-    if (t === 0 || samples === 1) return a;
-    const b = normal[line * samples + i + 1]!;
-    return a + (b - a) * t;
-  };
+  const at = (line: number, u: number): number => interp(normal, line * samples, 1, samples, u);
+  const dnPad = new Float64Array(nr + 1);
   for (let l = 0; l < lines; l++) {
     for (let j = 0; j < nr; j++) {
       const uR = uAxis + j;
@@ -61,14 +76,11 @@ export function axisymmetricDensity(
     }
     eps[0] = 0;
     abelInvertDeflection(eps, nInf, dn);
+    dnPad.set(dn);
+    dnPad[nr] = 0; // far field
     for (let c = 0; c < samples; c++) {
-      const r = radiusPx[c]! / step;
-      const i = Math.min(Math.floor(r), nr - 1);
-      const t = r - i;
-      const a = dn[i]!;
-      const b = i + 1 < nr ? dn[i + 1]! : 0;
-      const v = t > 1e-9 ? a + (b - a) * t : a;
-      rho[l * samples + c] = referenceDensity + v / k;
+      const r = Math.min(radiusPx[c]! / step, nr);
+      rho[l * samples + c] = referenceDensity + interp(dnPad, 0, 1, nr + 1, r) / k;
     }
   }
   return { rho, radiusPx };

@@ -208,7 +208,7 @@ export function reconstructDensity(displacement: DisplacementField, setup: Setup
     let nRefAll = 0;
     for (let i = 0; i < n; i++) if (isRef[i]) (nRefAll++, Number.isFinite(gx[i]!) && nRef++);
     if (nRef === 0) {
-      throw invalidParameter('flow.reference', `at least one valid vector in the reference region (${what})`, `a region whose ${nRefAll} vectors are all masked or failed`, 'choose another reference edge or a rectPx over undisturbed, measured flow');
+      throw new RhofieldError('input', `expected at least one valid vector in the reference region (${what}) for flow.reference but received a region whose ${nRefAll} vectors are all masked or failed; choose another reference edge or a rectPx over undisturbed, measured flow`);
     }
     const pd = planarDensity(gx, gy, cols, rows, hx, hy, isRef, rhoRef, options.solver ?? 'auto', options.tolerance ?? 1e-8);
     rho = pd.rho;
