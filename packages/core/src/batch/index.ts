@@ -21,3 +21,5 @@ export { parseShard, shardFromEnv, shardBounds, selectShard } from './shardSpec.
 export type { RunningStatistics, FieldStatistics } from './runningStatistics.js';
 export { createRunningStatistics, addSample, combineStatistics, finalizeStatistics } from './runningStatistics.js';
 export { canonicalJson, settingsHash } from './settingsHash.js';
+export type { WorkerPool } from './createWorkerPool.js';
+export { createWorkerPool } from './createWorkerPool.js';

@@ -1,0 +1,64 @@
+/**
+ * Layout of a batch output folder and the small file-system helpers the runner needs.
+ *
+ *   DIR/run.json                 manifest: settings and their hash (one settings set per folder)
+ *   DIR/pairs/<frame id>/        one finished pair (appears atomically by rename; has pair.json)
+ *   DIR/pairs/.<id>.partial-*    a pair in flight (removed or redone on the next run)
+ *   DIR/failed/<frame id>.json   a failed pair: its error (retried on the next run)
+ *   DIR/statistics/              mean/std/count fields of the run (or of the merged shards)
+ *   DIR/shards/<K>-of-<N>/       partial statistics of one shard of a job array
+ *   DIR/logs/                    scheduler output of job-array tasks
+ */
+import { existsSync, promises as fsp } from 'node:fs';
+import path from 'node:path';
+
+export const layout = {
+  manifest: (dir: string) => path.join(dir, 'run.json'),
+  pairs: (dir: string) => path.join(dir, 'pairs'),
+  pair: (dir: string, id: string) => path.join(dir, 'pairs', id),
+  pairRecord: (dir: string, id: string) => path.join(dir, 'pairs', id, 'pair.json'),
+  staging: (dir: string, id: string, tag: string) => path.join(dir, 'pairs', `.${id}.partial-${tag}`),
+  stagingPrefix: (id: string) => `.${id}.partial-`,
+  failed: (dir: string) => path.join(dir, 'failed'),
+  failedRecord: (dir: string, id: string) => path.join(dir, 'failed', `${id}.json`),
+  statistics: (dir: string) => path.join(dir, 'statistics'),
+  shards: (dir: string) => path.join(dir, 'shards'),
+  shard: (dir: string, k: number, n: number) => path.join(dir, 'shards', `${k}-of-${n}`),
+  logs: (dir: string) => path.join(dir, 'logs'),
+};
+
+/** True if the error means the file system is full or read-only: no later pair can succeed either. */
+export function isStorageFull(err: unknown): boolean {
+  const code = (err as NodeJS.ErrnoException | undefined)?.code;
+  if (code === 'ENOSPC' || code === 'EDQUOT' || code === 'EROFS') return true;
+  const msg = err instanceof Error ? err.message : String(err);
+  return /ENOSPC|EDQUOT|no space left on device|disk quota exceeded|read-only file system/i.test(msg);
+}
+
+/**
+ * Put the complete folder `staged` at `target`, replacing an existing one: the old folder is moved
+ * aside first, so a reader sees either the old or the new complete folder (and, only if killed in
+ * the instant between the two renames, none).
+ */
+export async function replaceDir(staged: string, target: string): Promise<void> {
+  if (existsSync(target)) {
+    const old = `${target}.old-${process.pid}-${Date.now()}`;
+    await fsp.rename(target, old);
+    await fsp.rename(staged, target);
+    await fsp.rm(old, { recursive: true, force: true });
+  } else {
+    await fsp.rename(staged, target);
+  }
+}
+
+/** Write a file atomically (temp file in the same folder + rename). */
+export async function writeAtomic(file: string, data: string | Uint8Array): Promise<void> {
+  const tmp = `${file}.tmp-${process.pid}-${Date.now()}-${Math.random().toString(36).slice(2, 8)}`;
+  try {
+    await fsp.writeFile(tmp, data);
+    await fsp.rename(tmp, file);
+  } catch (e) {
+    await fsp.rm(tmp, { force: true }).catch(() => {});
+    throw e;
+  }
+}

@@ -1,0 +1,286 @@
+/**
+ * The batch runner: claims an output folder for one set of settings, processes the pairs that are not
+ * finished yet (in a pool), records failures and goes on, then accumulates statistics in frame order.
+ *
+ * Safety rules:
+ * - each pair is processed into a staging folder DIR/pairs/.<id>.partial-<tag> and renamed to
+ *   DIR/pairs/<id> when complete, so a killed run leaves only staging folders, which the next run
+ *   removes and redoes;
+ * - DIR/run.json records the settings and their SHA-256; a run with other settings refuses the folder
+ *   (--force discards the old results first), so results of different settings never mix;
+ * - a failed pair is recorded in DIR/failed/<id>.json and retried by the next run; a full or
+ *   read-only disk stops the run (no later pair could be written) without touching finished pairs.
+ */
+import { createHash } from 'node:crypto';
+import { existsSync, promises as fsp } from 'node:fs';
+import path from 'node:path';
+import { RhofieldError, selectShard, settingsHash as hashSettings, type PairJob, type ShardSpec } from '@rhofield/core';
+import { isStorageFull, layout, writeAtomic } from './folders.js';
+import { accumulatePairs, mergePartials, writePartial, writeStatistics } from './statistics.js';
+import type { ImageProbe, PairExecutor, PairSummaryLike, ProbeFn } from './types.js';
+
+export interface BatchPlan {
+  readonly outDir: string;
+  /** All pairs of the run in frame order (every shard sees the same list). */
+  readonly jobs: readonly PairJob[];
+  readonly shard?: ShardSpec;
+  /** Everything that decides the results (hashed into run.json). */
+  readonly settings: Record<string, unknown>;
+  /** Options handed to each pair's processor. */
+  readonly pairOptions: Record<string, unknown>;
+  readonly force?: boolean;
+}
+
+export interface BatchHooks {
+  readonly probe: ProbeFn;
+  /** Called after each pair (done counts finished + failed in this run). */
+  readonly onPair?: (e: { id: string; ok: boolean; done: number; total: number; error?: string }) => void;
+  readonly onStart?: (e: { total: number; skipped: number; todo: number }) => void;
+  readonly debug?: (msg: string) => void;
+}
+
+export interface BatchResult {
+  readonly settingsHash: string;
+  readonly jobsHash: string;
+  readonly shard?: ShardSpec;
+  readonly pairsInShard: number;
+  readonly skipped: number;
+  readonly processed: number;
+  readonly failed: Array<{ id: string; error: string }>;
+  /** Set when the run stopped early (disk full / read-only). */
+  readonly stoppedBecause?: string;
+  readonly processSeconds: number;
+  readonly pairsPerSecond: number;
+  /** Where the statistics went: DIR/statistics, or the shard's partial folder. */
+  readonly statistics: { folder: string; pairsUsed: number } | null;
+}
+
+/** SHA-256 of the ordered job list (ids and inputs): shards of one run must agree on it. */
+export function jobsHash(jobs: readonly PairJob[]): string {
+  const h = createHash('sha256');
+  for (const j of jobs) h.update(`${j.id}\0${j.refPath}\0${j.refPage ?? ''}\0${j.measPath}\0${j.measPage ?? ''}\n`);
+  return h.digest('hex');
+}
+
+interface Manifest {
+  kind: 'rhofield-batch';
+  settingsHash: string;
+  settings: Record<string, unknown>;
+  createdUtc: string;
+  tool: Record<string, unknown>;
+}
+
+/**
+ * Claim DIR for these settings: create run.json (atomically, exclusive so that concurrent shards
+ * agree), or check that the existing one has the same settings hash.
+ */
+export async function claimFolder(dir: string, settings: Record<string, unknown>, force: boolean, shard: ShardSpec | undefined, tool: Record<string, unknown>): Promise<string> {
+  const hash = hashSettings(settings);
+  const mf = layout.manifest(dir);
+  if (existsSync(dir)) {
+    const st = await fsp.stat(dir);
+    if (!st.isDirectory()) throw new RhofieldError('usage', `--out ${dir} exists and is not a folder; choose another path`);
+    const entries = (await fsp.readdir(dir)).filter((e) => e !== 'logs');
+    const existing = existsSync(mf) ? (JSON.parse(await fsp.readFile(mf, 'utf8')) as Partial<Manifest>) : null;
+    const same = existing?.kind === 'rhofield-batch' && existing.settingsHash === hash;
+    if (force && entries.length > 0) {
+      if (shard) {
+        throw new RhofieldError('usage', `--force with --shard (or inside a job array) would delete other shards' results; remove ${dir} before submitting, or drop --force`);
+      }
+      for (const e of entries) await fsp.rm(path.join(dir, e), { recursive: true, force: true });
+    } else if (entries.length > 0 && !existing) {
+      throw new RhofieldError('usage', `--out ${dir} is not empty and is not a batch folder (no run.json); choose another folder or pass --force to discard its contents`);
+    } else if (existing && !same) {
+      throw new RhofieldError(
+        'usage',
+        `--out ${dir} holds batch results made with other settings (settings hash ${String(existing.settingsHash).slice(0, 12)}…, this run ${hash.slice(0, 12)}…); pass --force to discard them, or choose another --out`,
+      );
+    }
+  }
+  await fsp.mkdir(dir, { recursive: true });
+  if (!existsSync(mf)) {
+    const m: Manifest = { kind: 'rhofield-batch', settingsHash: hash, settings, createdUtc: new Date().toISOString(), tool };
+    const tmp = `${mf}.tmp-${process.pid}-${Date.now()}`;
+    await fsp.writeFile(tmp, JSON.stringify(m, null, 2) + '\n');
+    try {
+      await fsp.link(tmp, mf); // exclusive: fails if another shard created it meanwhile
+    } catch (e) {
+      if ((e as NodeJS.ErrnoException).code !== 'EEXIST') throw e;
+      const other = JSON.parse(await fsp.readFile(mf, 'utf8')) as Manifest;
+      if (other.settingsHash !== hash) throw new RhofieldError('usage', `--out ${dir} was claimed meanwhile by a run with other settings; choose another --out`);
+    } finally {
+      await fsp.rm(tmp, { force: true });
+    }
+  }
+  await fsp.mkdir(layout.pairs(dir), { recursive: true });
+  await fsp.mkdir(layout.failed(dir), { recursive: true });
+  return hash;
+}
+
+function errorText(e: unknown): string {
+  return (e instanceof Error ? e.message : String(e)).split('\n')[0] ?? 'unknown error';
+}
+
+/**
+ * Run a batch (or one shard of it) with the given executor.
+ * @throws RhofieldError (usage/input) before any pair runs if the folder is refused or the first
+ *   reference cannot be read.
+ */
+export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: BatchHooks, tool: Record<string, unknown> = {}): Promise<BatchResult> {
+  const dir = path.resolve(plan.outDir);
+  const hash = await claimFolder(dir, plan.settings, !!plan.force, plan.shard, tool);
+  const jHash = jobsHash(plan.jobs);
+  const mine = selectShard(plan.jobs, plan.shard);
+  const pairsDir = layout.pairs(dir);
+
+  // the run's frame size: the first reference of the whole list (the same for every shard)
+  const first = plan.jobs[0];
+  const runSize: ImageProbe | null = first ? await hooks.probe(first.refPath, first.refPage) : null;
+
+  const existing = new Set(await fsp.readdir(pairsDir));
+  const todo: PairJob[] = [];
+  for (const j of mine) {
+    if (existing.has(j.id) && existsSync(layout.pairRecord(dir, j.id))) continue;
+    todo.push(j);
+    // leftovers of a killed run for this pair: a partial staging folder, or a final folder without record
+    for (const name of existing) {
+      if (name.startsWith(layout.stagingPrefix(j.id)) || name === j.id) {
+        hooks.debug?.(`removing unfinished ${name}`);
+        await fsp.rm(path.join(pairsDir, name), { recursive: true, force: true });
+      }
+    }
+  }
+  const skipped = mine.length - todo.length;
+  hooks.onStart?.({ total: mine.length, skipped, todo: todo.length });
+
+  const failed: Array<{ id: string; error: string }> = [];
+  let processed = 0;
+  let done = 0;
+  let stoppedBecause: string | undefined;
+  const tag = `${process.pid}-${Date.now().toString(36)}`;
+
+  const onePair = async (j: PairJob): Promise<void> => {
+    const stage = layout.staging(dir, j.id, tag);
+    try {
+      if (runSize) {
+        for (const [p, pg] of [
+          [j.refPath, j.refPage],
+          [j.measPath, j.measPage],
+        ] as const) {
+          const s = await hooks.probe(p, pg);
+          if (s.width !== runSize.width || s.height !== runSize.height) {
+            throw new RhofieldError(
+              'input',
+              `${p}${pg !== undefined ? ` page ${pg}` : ''} is ${s.width}×${s.height} px but this run's frames are ${runSize.width}×${runSize.height} px (size of ${first!.refPath}); frames of one run must have one size`,
+            );
+          }
+        }
+      }
+      await fsp.mkdir(stage);
+      const t0 = performance.now();
+      const summary: PairSummaryLike = await executor.run(
+        { refPath: j.refPath, measPath: j.measPath, ...(j.refPage !== undefined ? { refPage: j.refPage } : {}), ...(j.measPage !== undefined ? { measPage: j.measPage } : {}), options: plan.pairOptions },
+        stage,
+      );
+      const record = { id: j.id, index: j.index, refPath: j.refPath, refPage: j.refPage, measPath: j.measPath, measPage: j.measPage, settingsHash: hash, seconds: +((performance.now() - t0) / 1000).toFixed(3), summary };
+      await fsp.writeFile(path.join(stage, 'pair.json'), JSON.stringify(record, null, 2) + '\n');
+      await fsp.rename(stage, layout.pair(dir, j.id));
+      await fsp.rm(layout.failedRecord(dir, j.id), { force: true });
+      processed++;
+      done++;
+      hooks.onPair?.({ id: j.id, ok: true, done, total: todo.length });
+    } catch (e) {
+      await fsp.rm(stage, { recursive: true, force: true }).catch(() => {});
+      const error = errorText(e);
+      if (isStorageFull(e)) {
+        stoppedBecause ??= `the output disk is full or read-only (${error}); free space and rerun the same command to resume`;
+      } else {
+        failed.push({ id: j.id, error });
+        try {
+          await writeAtomic(layout.failedRecord(dir, j.id), JSON.stringify({ id: j.id, refPath: j.refPath, measPath: j.measPath, refPage: j.refPage, measPage: j.measPage, error, at: new Date().toISOString() }, null, 2) + '\n');
+        } catch (we) {
+          if (isStorageFull(we)) stoppedBecause ??= `the output disk is full or read-only; free space and rerun the same command to resume`;
+        }
+      }
+      done++;
+      hooks.onPair?.({ id: j.id, ok: false, done, total: todo.length, error });
+    }
+  };
+
+  const queue = todo.slice();
+  const lanes = Math.max(1, Math.min(queue.length, executor.concurrency + 1));
+  const t0 = performance.now();
+  await Promise.all(
+    Array.from({ length: lanes }, async () => {
+      while (queue.length > 0 && !stoppedBecause) await onePair(queue.shift() as PairJob);
+    }),
+  );
+  const processSeconds = (performance.now() - t0) / 1000;
+  failed.sort((a, b) => mine.findIndex((j) => j.id === a.id) - mine.findIndex((j) => j.id === b.id));
+
+  let statistics: BatchResult['statistics'] = null;
+  if (!stoppedBecause) {
+    const { acc, mismatched } = await accumulatePairs(dir, mine.map((j) => j.id));
+    for (const m of mismatched) failed.push(m);
+    const failedIds = mine.filter((j) => !acc?.pairIds.includes(j.id)).map((j) => j.id);
+    try {
+      if (plan.shard) {
+        await writePartial(dir, acc, { shard: plan.shard, settingsHash: hash, jobsHash: jHash, pairsTotal: mine.length, failed: failedIds });
+        statistics = { folder: layout.shard(dir, plan.shard.index, plan.shard.count), pairsUsed: acc?.pairIds.length ?? 0 };
+      } else if (acc) {
+        await writeStatistics(dir, acc, { settingsHash: hash, jobsHash: jHash, pairsTotal: mine.length, pairsUsed: acc.pairIds.length, failed: failedIds });
+        statistics = { folder: layout.statistics(dir), pairsUsed: acc.pairIds.length };
+      }
+    } catch (e) {
+      if (!isStorageFull(e)) throw e;
+      stoppedBecause = `the statistics could not be written: the output disk is full or read-only (${errorText(e)}); free space and rerun the same command`;
+    }
+  }
+  return {
+    settingsHash: hash,
+    jobsHash: jHash,
+    ...(plan.shard ? { shard: plan.shard } : {}),
+    pairsInShard: mine.length,
+    skipped,
+    processed,
+    failed,
+    ...(stoppedBecause ? { stoppedBecause } : {}),
+    processSeconds,
+    pairsPerSecond: processSeconds > 0 ? processed / processSeconds : 0,
+    statistics,
+  };
+}
+
+/** Result of merging a job array's shards. */
+export interface MergeResult {
+  readonly shards: number;
+  readonly pairsTotal: number;
+  readonly pairsUsed: number;
+  readonly failed: string[];
+  readonly folder: string;
+  readonly files: string[];
+}
+
+/**
+ * Combine the partial statistics of every shard of DIR into DIR/statistics.
+ * @throws RhofieldError (input) if DIR is not a batch folder, or shards are missing or inconsistent.
+ */
+export async function mergeBatch(outDir: string): Promise<MergeResult> {
+  const dir = path.resolve(outDir);
+  const mf = layout.manifest(dir);
+  if (!existsSync(mf)) throw new RhofieldError('input', `${dir} is not a batch folder (no run.json); give the --out folder of a batch run`);
+  const manifest = JSON.parse(await fsp.readFile(mf, 'utf8')) as Manifest;
+  const { acc, infos } = await mergePartials(dir, manifest.settingsHash);
+  const failed = infos.flatMap((p) => p.failed);
+  const pairsTotal = infos.reduce((a, p) => a + p.pairsTotal, 0);
+  if (!acc) throw new RhofieldError('processing', `no pair of ${dir} finished in any shard; see ${layout.failed(dir)} for the errors`);
+  const files = await writeStatistics(dir, acc, {
+    settingsHash: manifest.settingsHash,
+    jobsHash: infos[0]!.jobsHash,
+    pairsTotal,
+    pairsUsed: acc.pairIds.length,
+    shards: infos.length,
+    failed,
+  });
+  return { shards: infos.length, pairsTotal, pairsUsed: acc.pairIds.length, failed, folder: layout.statistics(dir), files };
+}

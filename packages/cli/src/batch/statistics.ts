@@ -1,0 +1,249 @@
+/**
+ * Batch statistics on disk: accumulate the per-pair results of a run (or a shard) in frame order,
+ * write mean / standard deviation / valid-count fields, write and merge shards' partial accumulators.
+ *
+ * Quantities: displacement (x and y components, from displacement.npy rows×cols×2) and, when the
+ * pairs carry it, density (density.npy rows×cols). A displacement vector counts as valid where both
+ * components are finite. All accumulation is float64 (Welford / Chan, see @rhofield/core batch).
+ */
+import { existsSync, promises as fsp } from 'node:fs';
+import path from 'node:path';
+import {
+  RhofieldError,
+  addSample,
+  combineStatistics,
+  createRunningStatistics,
+  decodeNpy,
+  encodeNpy,
+  finalizeStatistics,
+  inputError,
+  type RunningStatistics,
+} from '@rhofield/core';
+import { layout, replaceDir, writeAtomic } from './folders.js';
+
+/** Accumulators of one run or shard. */
+export interface BatchAccumulators {
+  rows: number;
+  cols: number;
+  dx: RunningStatistics;
+  dy: RunningStatistics;
+  density: RunningStatistics | null;
+  /** Frame ids included, in frame order. */
+  pairIds: string[];
+}
+
+async function readNpy(file: string) {
+  return decodeNpy(new Uint8Array(await fsp.readFile(file)), file);
+}
+
+/**
+ * Accumulate the finished pairs among `ids` (frame order) from DIR/pairs.
+ * @returns the accumulators, and the ids skipped because their grid differs from the first pair's.
+ */
+export async function accumulatePairs(dir: string, ids: readonly string[]): Promise<{ acc: BatchAccumulators | null; mismatched: Array<{ id: string; error: string }> }> {
+  let acc: BatchAccumulators | null = null;
+  const mismatched: Array<{ id: string; error: string }> = [];
+  for (const id of ids) {
+    const pdir = layout.pair(dir, id);
+    if (!existsSync(layout.pairRecord(dir, id))) continue;
+    const disp = await readNpy(path.join(pdir, 'displacement.npy'));
+    const [rows, cols, comps] = disp.shape;
+    if (disp.shape.length !== 3 || comps !== 2 || rows === undefined || cols === undefined) {
+      throw inputError(`${path.join(pdir, 'displacement.npy')}: expected shape (rows, cols, 2) but received (${disp.shape.join(', ')})`);
+    }
+    const densFile = path.join(pdir, 'density.npy');
+    const dens = existsSync(densFile) ? await readNpy(densFile) : null;
+    if (!acc) {
+      const n = rows * cols;
+      acc = { rows, cols, dx: createRunningStatistics(n), dy: createRunningStatistics(n), density: dens ? createRunningStatistics(n) : null, pairIds: [] };
+    } else if (rows !== acc.rows || cols !== acc.cols) {
+      mismatched.push({ id, error: `vector grid ${rows}×${cols} differs from the run's ${acc.rows}×${acc.cols}; frames must all have one size` });
+      continue;
+    }
+    if ((dens !== null) !== (acc.density !== null) || (dens && dens.data.length !== rows * cols)) {
+      mismatched.push({ id, error: 'density field missing or of another size than in the other pairs' });
+      continue;
+    }
+    const n = rows * cols;
+    const dx = new Float64Array(n);
+    const dy = new Float64Array(n);
+    for (let i = 0; i < n; i++) {
+      const x = disp.data[2 * i] as number;
+      const y = disp.data[2 * i + 1] as number;
+      const ok = Number.isFinite(x) && Number.isFinite(y);
+      dx[i] = ok ? x : NaN;
+      dy[i] = ok ? y : NaN;
+    }
+    addSample(acc.dx, dx);
+    addSample(acc.dy, dy);
+    if (acc.density && dens) addSample(acc.density, dens.data);
+    acc.pairIds.push(id);
+  }
+  return { acc, mismatched };
+}
+
+function interleave(a: Float64Array, b: Float64Array): Float64Array {
+  const out = new Float64Array(a.length * 2);
+  for (let i = 0; i < a.length; i++) {
+    out[2 * i] = a[i] as number;
+    out[2 * i + 1] = b[i] as number;
+  }
+  return out;
+}
+
+/** Summary written to statistics/statistics.json. */
+export interface StatisticsInfo {
+  readonly settingsHash: string;
+  readonly jobsHash: string;
+  readonly pairsTotal: number;
+  readonly pairsUsed: number;
+  readonly shards?: number;
+  readonly failed: string[];
+}
+
+/**
+ * Write DIR/statistics (replacing any previous one as a whole): displacement_mean/std (rows×cols×2,
+ * float64), displacement_count (rows×cols, uint32), density_mean/std/count likewise, statistics.json.
+ * The standard deviation is the sample one (n − 1); NaN where fewer than 2 valid samples.
+ */
+export async function writeStatistics(dir: string, acc: BatchAccumulators, info: StatisticsInfo): Promise<string[]> {
+  const target = layout.statistics(dir);
+  const stage = `${target}.partial-${process.pid}-${Date.now()}`;
+  await fsp.mkdir(stage, { recursive: true });
+  try {
+    const { rows, cols } = acc;
+    const fx = finalizeStatistics(acc.dx);
+    const fy = finalizeStatistics(acc.dy);
+    const files: Record<string, Uint8Array> = {
+      'displacement_mean.npy': encodeNpy(interleave(fx.mean, fy.mean), [rows, cols, 2]),
+      'displacement_std.npy': encodeNpy(interleave(fx.std, fy.std), [rows, cols, 2]),
+      'displacement_count.npy': encodeNpy(fx.count, [rows, cols]),
+    };
+    if (acc.density) {
+      const fd = finalizeStatistics(acc.density);
+      files['density_mean.npy'] = encodeNpy(fd.mean, [rows, cols]);
+      files['density_std.npy'] = encodeNpy(fd.std, [rows, cols]);
+      files['density_count.npy'] = encodeNpy(fd.count, [rows, cols]);
+    }
+    for (const [name, bytes] of Object.entries(files)) await fsp.writeFile(path.join(stage, name), bytes);
+    const meta = {
+      ...info,
+      grid: { rows, cols },
+      pairIds: acc.pairIds,
+      definitions: {
+        mean: 'per-point mean over the pairs with a finite value there (float64, frame order)',
+        std: 'per-point sample standard deviation (denominator count - 1); NaN where count < 2',
+        count: 'per-point number of pairs with a valid value (displacement: both components finite)',
+        displacement: 'measured minus reference, +x right, +y down, pixels; last axis = (x, y)',
+      },
+    };
+    await fsp.writeFile(path.join(stage, 'statistics.json'), JSON.stringify(meta, null, 2) + '\n');
+    await replaceDir(stage, target);
+    return Object.keys(files).concat('statistics.json');
+  } catch (e) {
+    await fsp.rm(stage, { recursive: true, force: true });
+    throw e;
+  }
+}
+
+/** What a shard's partial.json records. */
+export interface PartialInfo {
+  readonly shard: { index: number; count: number };
+  readonly settingsHash: string;
+  readonly jobsHash: string;
+  readonly pairsTotal: number;
+  readonly rows: number;
+  readonly cols: number;
+  readonly hasDensity: boolean;
+  readonly pairIds: string[];
+  readonly failed: string[];
+}
+
+function packAcc(s: RunningStatistics, rows: number, cols: number): Uint8Array {
+  const out = new Float64Array(3 * s.length);
+  out.set(s.count, 0);
+  out.set(s.mean, s.length);
+  out.set(s.m2, 2 * s.length);
+  return encodeNpy(out, [3, rows, cols]);
+}
+
+function unpackAcc(data: Float64Array, n: number): RunningStatistics {
+  return { length: n, count: data.slice(0, n), mean: data.slice(n, 2 * n), m2: data.slice(2 * n, 3 * n) };
+}
+
+/**
+ * Write a shard's partial accumulators to DIR/shards/<K>-of-<N>/ (count, mean, M2 stacked as a
+ * 3×rows×cols float64 array per quantity), replacing any previous partial of that shard.
+ */
+export async function writePartial(dir: string, acc: BatchAccumulators | null, info: Omit<PartialInfo, 'rows' | 'cols' | 'hasDensity' | 'pairIds'>): Promise<void> {
+  const target = layout.shard(dir, info.shard.index, info.shard.count);
+  await fsp.mkdir(layout.shards(dir), { recursive: true });
+  const stage = `${target}.partial-${process.pid}-${Date.now()}`;
+  await fsp.mkdir(stage);
+  try {
+    if (acc) {
+      await fsp.writeFile(path.join(stage, 'dx_acc.npy'), packAcc(acc.dx, acc.rows, acc.cols));
+      await fsp.writeFile(path.join(stage, 'dy_acc.npy'), packAcc(acc.dy, acc.rows, acc.cols));
+      if (acc.density) await fsp.writeFile(path.join(stage, 'density_acc.npy'), packAcc(acc.density, acc.rows, acc.cols));
+    }
+    const full: PartialInfo = { ...info, rows: acc?.rows ?? 0, cols: acc?.cols ?? 0, hasDensity: !!acc?.density, pairIds: acc?.pairIds ?? [] };
+    await fsp.writeFile(path.join(stage, 'partial.json'), JSON.stringify(full, null, 2) + '\n');
+    await replaceDir(stage, target);
+  } catch (e) {
+    await fsp.rm(stage, { recursive: true, force: true });
+    throw e;
+  }
+}
+
+/**
+ * Combine the partial statistics of all shards of DIR in shard order (= frame order).
+ * @throws RhofieldError (input) if there are no shards, shards of different N, a missing shard, or
+ *   shards made with other settings or another frame list.
+ */
+export async function mergePartials(dir: string, settingsHash: string): Promise<{ acc: BatchAccumulators | null; infos: PartialInfo[] }> {
+  const sdir = layout.shards(dir);
+  const names = existsSync(sdir) ? (await fsp.readdir(sdir)).filter((n) => /^\d+-of-\d+$/.test(n)) : [];
+  if (names.length === 0) throw inputError(`${dir} has no shard results (shards/K-of-N); run the job array first, or run without --shard`);
+  const counts = new Set(names.map((n) => Number(n.split('-of-')[1])));
+  if (counts.size > 1) throw inputError(`${sdir} holds shards of different splits (${[...counts].map((c) => `N=${c}`).join(', ')}); rerun the batch with --force and one split`);
+  const n = [...counts][0] as number;
+  const infos: PartialInfo[] = [];
+  const missing: number[] = [];
+  for (let k = 1; k <= n; k++) {
+    const f = path.join(layout.shard(dir, k, n), 'partial.json');
+    if (!existsSync(f)) {
+      missing.push(k);
+      continue;
+    }
+    infos.push(JSON.parse(await fsp.readFile(f, 'utf8')) as PartialInfo);
+  }
+  if (missing.length) throw inputError(`shard(s) ${missing.map((k) => `${k}/${n}`).join(', ')} of ${dir} have not finished; rerun those tasks (--shard K/${n}), then merge`);
+  for (const p of infos) {
+    if (p.settingsHash !== settingsHash) throw inputError(`shard ${p.shard.index}/${n} of ${dir} was made with other settings than run.json; rerun the batch with --force`);
+    if (p.jobsHash !== infos[0]!.jobsHash) throw inputError(`shards 1/${n} and ${p.shard.index}/${n} of ${dir} cover different frame lists; rerun all shards with the same --frames/--range`);
+  }
+  let acc: BatchAccumulators | null = null;
+  for (const p of infos) {
+    if (p.pairIds.length === 0) continue;
+    const sd = layout.shard(dir, p.shard.index, n);
+    const len = p.rows * p.cols;
+    const read = async (q: string) => unpackAcc((await readNpy(path.join(sd, `${q}_acc.npy`))).data as Float64Array, len);
+    const part: BatchAccumulators = { rows: p.rows, cols: p.cols, dx: await read('dx'), dy: await read('dy'), density: p.hasDensity ? await read('density') : null, pairIds: p.pairIds };
+    if (!acc) {
+      acc = part;
+      continue;
+    }
+    if (part.rows !== acc.rows || part.cols !== acc.cols || !!part.density !== !!acc.density) {
+      throw new RhofieldError('input', `shard ${p.shard.index}/${n} has a ${part.rows}×${part.cols} grid but earlier shards ${acc.rows}×${acc.cols}; frames must all have one size`);
+    }
+    acc = {
+      rows: acc.rows,
+      cols: acc.cols,
+      dx: combineStatistics(acc.dx, part.dx),
+      dy: combineStatistics(acc.dy, part.dy),
+      density: acc.density && part.density ? combineStatistics(acc.density, part.density) : null,
+      pairIds: acc.pairIds.concat(part.pairIds),
+    };
+  }
+  return { acc, infos };
+}
