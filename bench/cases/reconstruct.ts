@@ -11,10 +11,9 @@ import {
   reconstructDensity,
   sceneDensityOnGrid,
   sceneDisplacementOnGrid,
-  type DisplacementField,
   type Field,
-  type VectorGrid,
 } from '@rhofield/core';
+import type { DisplacementField, VectorGrid } from '../../packages/core/src/correlate/types.js';
 
 export const name = 'reconstruct';
 

@@ -1,4 +1,6 @@
-import { parseSetup, type Setup, type VectorGrid, type DisplacementField, type Field } from '@rhofield/core';
+import { parseSetup, type Setup, type Field } from '@rhofield/core';
+// the correlate barrel does not re-export its types yet; import them from their file
+import type { DisplacementField, VectorGrid } from '../../packages/core/src/correlate/types.js';
 
 /** A test rig: f = 0.1 m, p = 5 µm, Z_B = 2.1 m, Z_D = 1.05 m → M = 0.05, 50 µm per pixel in the flow plane. */
 export function rig(flow: Record<string, unknown>, medium: Record<string, unknown> = {}): Setup {
