@@ -2,8 +2,12 @@
 import type { Command } from 'commander';
 import { register as plan } from './plan.js';
 import { register as pattern } from './pattern.js';
+import { register as batch } from './batch.js';
+import { register as merge } from './merge.js';
 
 export const commands: Array<(program: Command) => void> = [
   plan,
   pattern,
+  batch,
+  merge,
 ];

@@ -1,0 +1,35 @@
+/**
+ * `rhofield merge DIR`: combine the partial statistics of a batch's shards (job-array tasks) into
+ * DIR/statistics, in frame order, as if one process had run the whole batch.
+ */
+import path from 'node:path';
+import type { Command } from 'commander';
+import { EXIT, Log } from '../common.js';
+import { mergeBatch } from '../batch/runner.js';
+
+interface MergeOpts {
+  json?: boolean;
+  quiet?: boolean;
+  verbose?: boolean;
+  force?: boolean;
+}
+
+export function register(program: Command): void {
+  program
+    .command('merge')
+    .description('Combine the statistics of all shards of a batch (rhofield batch --shard K/N, or a job array) into DIR/statistics.')
+    .argument('<dir>', 'the batch output folder (--out of the shards)')
+    .option('--json', 'print a JSON summary on stdout')
+    .option('--quiet', 'no messages on stderr except warnings and errors')
+    .option('--verbose', 'stack traces on errors')
+    .option('--force', 'accepted for uniformity; merge always replaces DIR/statistics as a whole')
+    .addHelpText('after', '\nExit codes: 0 merged, 1 merged but some pairs had failed (listed), 2 a shard is missing or inconsistent.')
+    .action(async (dir: string, o: MergeOpts) => {
+      const log = new Log(o);
+      const r = await mergeBatch(dir);
+      log.info(`merged ${r.shards} shard(s): statistics over ${r.pairsUsed} of ${r.pairsTotal} pairs in ${path.relative(process.cwd(), r.folder) || r.folder}`);
+      if (r.failed.length) log.warn(`${r.failed.length} pair(s) are missing from the statistics (failed): ${r.failed.slice(0, 10).join(', ')}${r.failed.length > 10 ? ', …' : ''}`);
+      log.json({ command: 'merge', dir: path.resolve(dir), ...r });
+      process.exitCode = r.failed.length ? EXIT.failed : EXIT.ok;
+    });
+}
