@@ -1,1 +1,12 @@
-export {};
+export type { Autocorrelation } from './meanAutocorrelation.js';
+export { meanAutocorrelation } from './meanAutocorrelation.js';
+export type { AutocorrelationFit } from './dotDiameterFromAutocorrelation.js';
+export { dotDiameterFromAutocorrelation } from './dotDiameterFromAutocorrelation.js';
+export { immerkaerNoise } from './immerkaerNoise.js';
+export { countDots } from './countDots.js';
+export type { Finding, FindingLevel, DiagnoseOptions, ImageDiagnosis } from './diagnoseImage.js';
+export { diagnoseImage } from './diagnoseImage.js';
+export type { GlobalShift } from './globalShift.js';
+export { globalShift } from './globalShift.js';
+export type { DiagnosePairOptions, PairDiagnosis } from './diagnosePair.js';
+export { diagnosePair } from './diagnosePair.js';
