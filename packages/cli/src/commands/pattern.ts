@@ -91,6 +91,10 @@ export function register(program: Command): void {
       if (height === undefined) throw invalidParameter('--height', 'a page height with unit (e.g. 210mm)', undefined);
       if (dot === undefined) throw invalidParameter('--dot', 'a dot diameter with unit (e.g. 0.6mm), or --setup FILE', undefined);
       if (existsSync(o.out) && !o.force) throw new RhofieldError('usage', `--out ${o.out} already exists; pass --force to overwrite it or choose another name`);
+      if (ext === '.png') {
+        const px = Math.round((width / 0.0254) * dpi) * Math.round((height / 0.0254) * dpi);
+        if (px > MAX_PNG_PIXELS) throw invalidParameter('PNG size', `at most ${MAX_PNG_PIXELS / 1e6} megapixels`, `${(px / 1e6).toFixed(0)} megapixels at ${dpi} dpi`, 'lower --dpi or write PDF/SVG (vector, any size)');
+      }
       const pat = generatePattern({ width, height, dotDiameter: dot, seed, ...(fill !== undefined ? { fill } : {}) });
       const bytes = ext === '.svg' ? patternToSvg(pat) : ext === '.pdf' ? patternToPdf(pat) : await patternToPng(pat, dpi);
       await writeFileAtomic(o.out, bytes);
