@@ -2,12 +2,14 @@
 import type { Command } from 'commander';
 import { register as plan } from './plan.js';
 import { register as pattern } from './pattern.js';
+import { register as check } from './check.js';
 import { register as batch } from './batch.js';
 import { register as merge } from './merge.js';
 
 export const commands: Array<(program: Command) => void> = [
   plan,
   pattern,
+  check,
   batch,
   merge,
 ];
