@@ -140,6 +140,12 @@ async function planFromOptions(o: BatchOpts, log: Log) {
   return { jobs, mode, settings, pairOptions, framesKind: frames.kind };
 }
 
+/** A path for messages: relative when inside the working folder, else absolute. */
+function shown(p: string): string {
+  const r = path.relative(process.cwd(), p);
+  return r && !r.startsWith('..') && !path.isAbsolute(r) ? r : p;
+}
+
 function resolveShard(o: BatchOpts): ShardSpec | undefined {
   if (o.shard !== undefined) return parseShard(o.shard);
   return shardFromEnv(process.env);
@@ -238,7 +244,7 @@ export async function batchCommand(o: BatchOpts, executorFactory?: (workers: num
       (shard ? ` [shard ${shard.index}/${shard.count}: ${result.pairsInShard} of ${jobs.length} pairs]` : ''),
   );
   if (result.statistics) {
-    log.info(`statistics over ${result.statistics.pairsUsed} pair(s): ${path.relative(process.cwd(), result.statistics.folder) || '.'}`);
+    log.info(`statistics over ${result.statistics.pairsUsed} pair(s): ${shown(result.statistics.folder)}`);
     if (shard) log.info(`when all ${shard.count} shards have finished: rhofield merge ${o.out}`);
   }
   if (result.failed.length) {

@@ -27,7 +27,7 @@ export function register(program: Command): void {
     .action(async (dir: string, o: MergeOpts) => {
       const log = new Log(o);
       const r = await mergeBatch(dir);
-      log.info(`merged ${r.shards} shard(s): statistics over ${r.pairsUsed} of ${r.pairsTotal} pairs in ${path.relative(process.cwd(), r.folder) || r.folder}`);
+      log.info(`merged ${r.shards} shard(s): statistics over ${r.pairsUsed} of ${r.pairsTotal} pairs in ${r.folder}`);
       if (r.failed.length) log.warn(`${r.failed.length} pair(s) are missing from the statistics (failed): ${r.failed.slice(0, 10).join(', ')}${r.failed.length > 10 ? ', …' : ''}`);
       log.json({ command: 'merge', dir: path.resolve(dir), ...r });
       process.exitCode = r.failed.length ? EXIT.failed : EXIT.ok;

@@ -1,0 +1,133 @@
+/**
+ * `rhofield batch` / `rhofield merge` end to end, with the real per-pair pipeline on small synthetic
+ * sequences (tests/batch/synthFrames.ts): kill -9 mid-run and rerun gives byte-identical statistics to
+ * an uninterrupted run; bad input gives clear errors and exit codes; a full disk leaves no corrupted
+ * pair folder.
+ */
+import { execFileSync, spawnSync } from 'node:child_process';
+import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { STAT_FILES, loadNpy, rhofield, rhofieldAsync } from './cliHelpers.js';
+import { writeOddFrame, writeSequence, writeStack } from './synthFrames.js';
+
+const base = mkdtempSync(path.join(os.tmpdir(), 'rf-batchcli-'));
+let seq: { reference: string; pattern: string };
+const opts = ['--window', '32', '--step', '16', '--passes', '1'];
+
+beforeAll(async () => {
+  seq = await writeSequence(path.join(base, 'frames'), { size: 256, frames: 10, seed: 3 });
+}, 60_000);
+
+const statBytes = (out: string) => STAT_FILES.map((f) => readFileSync(path.join(out, `statistics/${f}.npy`)));
+
+describe('rhofield batch (real pipeline)', () => {
+  it('kill -9 mid-run, rerun: only unfinished pairs are redone and the statistics are byte-identical to an uninterrupted run', async () => {
+    const full = path.join(base, 'full');
+    const r0 = rhofield(['batch', '--reference', seq.reference, '--frames', seq.pattern, '--out', full, ...opts, '--workers', '1', '--json']);
+    expect(r0.code, r0.stderr).toBe(0);
+    const s0 = JSON.parse(r0.stdout);
+    expect(s0).toMatchObject({ processed: 10, failed: [] });
+    expect(r0.stderr).toMatch(/pairs\/s with 1 worker/);
+
+    const killed = path.join(base, 'killed');
+    const child = rhofieldAsync(['batch', '--reference', seq.reference, '--frames', seq.pattern, '--out', killed, ...opts, '--workers', '2']);
+    const finished = () => (existsSync(path.join(killed, 'pairs')) ? readdirSync(path.join(killed, 'pairs')).filter((n) => !n.startsWith('.')).length : 0);
+    const deadline = Date.now() + 60_000;
+    while (finished() < 3 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 20));
+    child.kill('SIGKILL');
+    await new Promise((r) => child.once('exit', r));
+    const before = finished();
+    expect(before, 'pairs finished before the kill').toBeGreaterThanOrEqual(3);
+    expect(before, 'the kill came before the end').toBeLessThan(10);
+    expect(existsSync(path.join(killed, 'statistics'))).toBe(false);
+
+    const r1 = rhofield(['batch', '--reference', seq.reference, '--frames', seq.pattern, '--out', killed, ...opts, '--workers', '2', '--json']);
+    expect(r1.code, r1.stderr).toBe(0);
+    const s1 = JSON.parse(r1.stdout);
+    expect(s1.skipped).toBe(before);
+    expect(s1.processed).toBe(10 - before);
+    expect(readdirSync(path.join(killed, 'pairs')).filter((n) => n.startsWith('.'))).toEqual([]);
+    const a = statBytes(full);
+    const b = statBytes(killed);
+    for (let i = 0; i < a.length; i++) expect(b[i]!.equals(a[i]!), `${STAT_FILES[i]} identical after kill and resume`).toBe(true);
+    // the statistics are real: mean displacement near the known mean shift of the 10 frames (synthFrames.frameShift)
+    const mean = loadNpy(path.join(full, 'statistics/displacement_mean.npy'));
+    expect(mean.shape.slice(2)).toEqual([2]);
+  }, 120_000);
+
+  it('a rerun with different settings is refused (exit 2); --force discards the old results', () => {
+    const out = path.join(base, 'full');
+    const r = rhofield(['batch', '--reference', seq.reference, '--frames', seq.pattern, '--out', out, '--window', '64', '--step', '32', '--passes', '1', '--range', '0:1']);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/holds batch results made with other settings .*pass --force/);
+    const f = rhofield(['batch', '--reference', seq.reference, '--frames', seq.pattern, '--out', out, '--window', '64', '--step', '32', '--passes', '1', '--range', '0:1', '--force', '--quiet']);
+    expect(f.code, f.stderr).toBe(0);
+    expect(readdirSync(path.join(out, 'pairs')).sort()).toEqual(['frame_00000', 'frame_00001']);
+  }, 60_000);
+
+  it('an odd-sized frame is failed and reported; the rest go on; exit code 1 with the list', async () => {
+    const dir = path.join(base, 'odd');
+    const s = await writeSequence(dir, { size: 128, frames: 3, seed: 9 });
+    await writeOddFrame(path.join(dir, 'frame_00003.png'), 96);
+    const r = rhofield(['batch', '--reference', s.reference, '--frames', s.pattern, '--out', path.join(base, 'odd-out'), ...opts, '--workers', '1']);
+    expect(r.code).toBe(1);
+    expect(r.stderr).toMatch(/1 pair\(s\) failed/);
+    expect(r.stderr).toMatch(/frame_00003: .*frame_00003.png is 96×96 px but this run's frames are 128×128 px/);
+    expect(JSON.parse(readFileSync(path.join(base, 'odd-out/statistics/statistics.json'), 'utf8')).pairsUsed).toBe(3);
+  }, 60_000);
+
+  it('a multi-page TIFF stack with consecutive pairing and --range', async () => {
+    const stack = path.join(base, 'stack.tif');
+    await writeStack(stack, { size: 128, frames: 4, seed: 2 });
+    const r = rhofield(['batch', '--frames', stack, '--pairing', 'consecutive', '--range', '1:4', '--out', path.join(base, 'stack-out'), ...opts, '--workers', '1', '--json']);
+    expect(r.code, r.stderr).toBe(0);
+    expect(readdirSync(path.join(base, 'stack-out/pairs')).sort()).toEqual(['stack_p00002', 'stack_p00003', 'stack_p00004']);
+  }, 60_000);
+
+  it('bad input: no match, one-page stack, shard 3/2, missing reference all exit 2 with one clear line, nothing written', () => {
+    const out = path.join(base, 'bad');
+    const cases: Array<[string[], RegExp]> = [
+      [['--reference', seq.reference, '--frames', path.join(base, 'frames/none_%05d.png')], /pattern .*none_%05d.png matches no files/],
+      [['--reference', seq.reference, '--frames', seq.reference], /is a single image \(a stack with one page\), not a sequence/],
+      [['--reference', seq.reference, '--frames', seq.pattern, '--shard', '3/2'], /expected K\/N with integers 1 ≤ K ≤ N, e.g. 2\/4 for --shard but received "3\/2"/],
+      [['--reference', path.join(base, 'nope.png'), '--frames', seq.pattern], /nope.png does not exist/],
+      [['--frames', seq.pattern, '--pairing', 'single'], /expected a reference image or pattern for --pairing single for --reference/],
+    ];
+    for (const [args, re] of cases) {
+      const r = rhofield(['batch', ...args, '--out', out]);
+      expect(r.code, args.join(' ')).toBe(2);
+      expect(r.stderr).toMatch(re);
+      expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    }
+    expect(existsSync(path.join(out, 'pairs'))).toBe(false);
+  }, 60_000);
+
+  const isRoot = typeof process.getuid === 'function' && process.getuid() === 0;
+  it.skipIf(!isRoot)('a full disk (a tiny tmpfs, root only) stops the run with a clear error and leaves only complete pairs', () => {
+    const mnt = path.join(base, 'tiny');
+    mkdirSync(mnt);
+    const m = spawnSync('mount', ['-t', 'tmpfs', '-o', 'size=96k', 'tmpfs', mnt]);
+    if (m.status !== 0) {
+      console.warn(`full-disk test skipped: cannot mount a tmpfs here (${String(m.stderr).trim()})`);
+      return;
+    }
+    try {
+      const r = rhofield(['batch', '--reference', seq.reference, '--frames', seq.pattern, '--out', path.join(mnt, 'out'), ...opts, '--workers', '1', '--format', 'npy,csv,png']);
+      expect(r.code).toBe(1);
+      expect(r.stderr).toMatch(/disk is full or read-only .*rerun the same command/);
+      const pairs = readdirSync(path.join(mnt, 'out/pairs'));
+      expect(pairs.filter((n) => n.startsWith('.'))).toEqual([]);
+      for (const p of pairs) {
+        const rec = JSON.parse(readFileSync(path.join(mnt, 'out/pairs', p, 'pair.json'), 'utf8'));
+        expect(rec.id).toBe(p);
+        expect(loadNpy(path.join(mnt, 'out/pairs', p, 'displacement.npy')).shape.length).toBe(3);
+      }
+      expect(pairs.length).toBeLessThan(10);
+    } finally {
+      execFileSync('umount', [mnt]);
+      rmSync(mnt, { recursive: true, force: true });
+    }
+  }, 60_000);
+});
