@@ -8,7 +8,7 @@ import { execFileSync, spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { beforeAll, describe, expect, it } from 'vitest';
+import { beforeAll, describe, expect, it, vi } from 'vitest';
 import { STAT_FILES, loadNpy, rhofield, rhofieldAsync } from './cliHelpers.js';
 import { writeOddFrame, writeSequence, writeStack } from './synthFrames.js';
 
@@ -86,7 +86,8 @@ describe('rhofield batch (real pipeline)', () => {
     expect(readdirSync(path.join(base, 'stack-out/pairs')).sort()).toEqual(['stack_p00002', 'stack_p00003', 'stack_p00004']);
   }, 60_000);
 
-  it('bad input: no match, one-page stack, shard 3/2, missing reference all exit 2 with one clear line, nothing written', () => {
+  it('bad input: no match, one-page stack, shard 3/2, missing reference all exit 2 with one clear line, nothing written', async () => {
+    const { run } = await import('../../packages/cli/src/main.js');
     const out = path.join(base, 'bad');
     const cases: Array<[string[], RegExp]> = [
       [['--reference', seq.reference, '--frames', path.join(base, 'frames/none_%05d.png')], /pattern .*none_%05d.png matches no files/],
@@ -94,12 +95,21 @@ describe('rhofield batch (real pipeline)', () => {
       [['--reference', seq.reference, '--frames', seq.pattern, '--shard', '3/2'], /expected K\/N with integers 1 ≤ K ≤ N, e.g. 2\/4 for --shard but received "3\/2"/],
       [['--reference', path.join(base, 'nope.png'), '--frames', seq.pattern], /nope.png does not exist/],
       [['--frames', seq.pattern, '--pairing', 'single'], /expected a reference image or pattern for --pairing single for --reference/],
+      [['--reference', seq.reference, '--frames', seq.pattern, '--range', '9:2'], /for --range but received "9:2"/],
     ];
     for (const [args, re] of cases) {
-      const r = rhofield(['batch', ...args, '--out', out]);
-      expect(r.code, args.join(' ')).toBe(2);
-      expect(r.stderr).toMatch(re);
-      expect(r.stderr.trim().split('\n')).toHaveLength(1);
+      const err: string[] = [];
+      const spy = vi.spyOn(process.stderr, 'write').mockImplementation((c: string | Uint8Array) => (err.push(String(c)), true));
+      let code: number;
+      try {
+        code = await run(['batch', ...args, '--out', out]);
+      } finally {
+        spy.mockRestore();
+        process.exitCode = undefined;
+      }
+      expect(code, args.join(' ')).toBe(2);
+      expect(err.join('')).toMatch(re);
+      expect(err.join('').trim().split('\n')).toHaveLength(1);
     }
     expect(existsSync(path.join(out, 'pairs'))).toBe(false);
   }, 60_000);
