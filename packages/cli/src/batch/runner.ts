@@ -216,13 +216,15 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
     }),
   );
   const processSeconds = (performance.now() - t0) / 1000;
-  failed.sort((a, b) => mine.findIndex((j) => j.id === a.id) - mine.findIndex((j) => j.id === b.id));
+  const order = new Map(mine.map((j, i) => [j.id, i]));
+  failed.sort((a, b) => (order.get(a.id) ?? 0) - (order.get(b.id) ?? 0));
 
   let statistics: BatchResult['statistics'] = null;
   if (!stoppedBecause) {
     const { acc, mismatched } = await accumulatePairs(dir, mine.map((j) => j.id));
     for (const m of mismatched) failed.push(m);
-    const failedIds = mine.filter((j) => !acc?.pairIds.includes(j.id)).map((j) => j.id);
+    const used = new Set(acc?.pairIds ?? []);
+    const failedIds = mine.filter((j) => !used.has(j.id)).map((j) => j.id);
     try {
       if (plan.shard) {
         await writePartial(dir, acc, { shard: plan.shard, settingsHash: hash, jobsHash: jHash, pairsTotal: mine.length, failed: failedIds });
