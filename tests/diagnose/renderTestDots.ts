@@ -14,7 +14,7 @@ function erf(x: number): number {
   return s * y;
 }
 
-export function renderTestDots(o: { width: number; height: number; diameterPx: number; density: number; seed: number; peak?: number; background?: number; noise?: number; dark?: boolean; shiftX?: number; shiftY?: number }): Field {
+export function renderTestDots(o: { width: number; height: number; diameterPx: number; density: number; seed: number; peak?: number; background?: number; noise?: number; dark?: boolean; shiftX?: number; shiftY?: number; displacement?: (x: number, y: number) => [number, number] }): Field {
   const { width: W, height: H } = o;
   const sigma = o.diameterPx / 4;
   const peak = o.peak ?? 1000;
@@ -26,8 +26,13 @@ export function renderTestDots(o: { width: number; height: number; diameterPx: n
   const ex = new Float64Array(2 * R + 1);
   const ey = new Float64Array(2 * R + 1);
   for (let i = 0; i < n; i++) {
-    const x0 = -8 + rng.next() * (W + 16) + (o.shiftX ?? 0);
-    const y0 = -8 + rng.next() * (H + 16) + (o.shiftY ?? 0);
+    let x0 = -8 + rng.next() * (W + 16) + (o.shiftX ?? 0);
+    let y0 = -8 + rng.next() * (H + 16) + (o.shiftY ?? 0);
+    if (o.displacement) {
+      const [ddx, ddy] = o.displacement(x0, y0);
+      x0 += ddx;
+      y0 += ddy;
+    }
     const cx = Math.round(x0);
     const cy = Math.round(y0);
     for (let j = -R; j <= R; j++) {
