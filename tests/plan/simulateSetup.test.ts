@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { parseSetup, simulateSetup, type DisplacementField, type Field, type SimulationEngines } from '@rhofield/core';
+import { parseSetup, simulateSetup, type Field, type SimulationEngines } from '@rhofield/core';
+import type { DisplacementField } from '../../packages/core/src/correlate/types.js';
 import { renderTestDots } from '../diagnose/renderTestDots.js';
 
 /**
