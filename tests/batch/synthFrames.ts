@@ -1,29 +1,22 @@
 /**
- * Synthetic frame sequences for batch tests and the batch benchmark: a random-dot reference and
- * frames whose dots are moved by a known displacement (a uniform shift that changes from frame to
- * frame plus a smooth swirl), written as 16-bit PNG files (or one multi-page TIFF stack).
- * Dots are Gaussian spots (e⁻² diameter 2.8 px) placed with a seeded generator; the ground truth is
- * the generator's own input, which is all the batch tests need (they compare runs with each other).
+ * Synthetic frame sequences for batch tests and the batch benchmark, from the project's dot
+ * generator (core synth: generateDots/renderDots): a random-dot reference and frames whose dots are
+ * moved by a known displacement (a shift that changes from frame to frame plus a smooth swirl),
+ * written as 16-bit PNG files (saveImage16) or one multi-page TIFF stack (saveImageStack16).
  */
 import { mkdirSync } from 'node:fs';
-import { createRequire } from 'node:module';
 import path from 'node:path';
-import { createRng } from '@rhofield/core';
-
-type SharpLike = (input: unknown, opts?: Record<string, unknown>) => {
-  toColourspace(c: string): { png(): { toFile(f: string): Promise<unknown> }; tiff(o?: Record<string, unknown>): { toFile(f: string): Promise<unknown> } };
-};
-const sharp = createRequire(import.meta.resolve('@rhofield/core'))('sharp') as SharpLike;
+import { generateDots, renderDots, saveImage16, saveImageStack16, type DotSet, type Field } from '@rhofield/core';
 
 export interface SequenceOptions {
   size: number;
   frames: number;
   seed?: number;
-  /** Dots per pixel (default 0.06). */
+  /** Dots per pixel (default 0.04). */
   density?: number;
 }
 
-/** Displacement (px) applied to frame k at pixel (x, y). */
+/** Displacement (px) applied to frame k at pixel (x, y): a shift that changes per frame plus a swirl. */
 export function frameShift(k: number, x: number, y: number, size: number): [number, number] {
   const cx = (x - size / 2) / size;
   const cy = (y - size / 2) / size;
@@ -31,60 +24,21 @@ export function frameShift(k: number, x: number, y: number, size: number): [numb
   return [0.6 + 0.05 * (k % 7) - s * cy, -0.3 + 0.04 * (k % 5) + s * cx];
 }
 
-/** Render dots at (xs, ys) into a 16-bit image. */
-function render(size: number, xs: Float64Array, ys: Float64Array, amp: Float64Array): Uint16Array {
-  const img = new Float64Array(size * size);
-  const sigma = 0.7;
-  const k = -1 / (2 * sigma * sigma);
-  for (let d = 0; d < xs.length; d++) {
-    const x0 = xs[d]!;
-    const y0 = ys[d]!;
-    const a = amp[d]!;
-    for (let y = Math.max(0, Math.floor(y0 - 3)); y <= Math.min(size - 1, Math.ceil(y0 + 3)); y++) {
-      const dy = y - y0;
-      for (let x = Math.max(0, Math.floor(x0 - 3)); x <= Math.min(size - 1, Math.ceil(x0 + 3)); x++) {
-        const dx = x - x0;
-        img[x + y * size] = img[x + y * size]! + a * Math.exp(k * (dx * dx + dy * dy));
-      }
-    }
+const dotCache = new Map<string, DotSet>();
+function dots(o: SequenceOptions): DotSet {
+  const key = `${o.size}/${o.seed ?? 1}/${o.density ?? 0.04}`;
+  let d = dotCache.get(key);
+  if (!d) {
+    d = generateDots({ width: o.size, height: o.size, diameterPx: 2.8, density: o.density ?? 0.04, seed: o.seed ?? 1, margin: 8 });
+    dotCache.set(key, d);
   }
-  const out = new Uint16Array(size * size);
-  for (let i = 0; i < out.length; i++) out[i] = Math.min(65535, Math.round(3000 + 40000 * img[i]!));
-  return out;
+  return d;
 }
 
-function dots(size: number, seed: number, density: number) {
-  const rng = createRng(seed);
-  const n = Math.round(size * size * density);
-  const xs = new Float64Array(n);
-  const ys = new Float64Array(n);
-  const amp = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    xs[i] = rng.next() * (size + 8) - 4;
-    ys[i] = rng.next() * (size + 8) - 4;
-    amp[i] = 0.6 + 0.4 * rng.next();
-  }
-  return { xs, ys, amp };
-}
-
-/** Frame k's image (k = −1: the reference). */
-export function frameImage(k: number, o: SequenceOptions): Uint16Array {
-  const { xs, ys, amp } = dots(o.size, o.seed ?? 1, o.density ?? 0.06);
-  if (k >= 0) {
-    const mx = new Float64Array(xs.length);
-    const my = new Float64Array(ys.length);
-    for (let i = 0; i < xs.length; i++) {
-      const [dx, dy] = frameShift(k, xs[i]!, ys[i]!, o.size);
-      mx[i] = xs[i]! + dx;
-      my[i] = ys[i]! + dy;
-    }
-    return render(o.size, mx, my, amp);
-  }
-  return render(o.size, xs, ys, amp);
-}
-
-async function png(file: string, data: Uint16Array, size: number): Promise<void> {
-  await sharp(data, { raw: { width: size, height: size, channels: 1 } }).toColourspace('grey16').png().toFile(file);
+/** Frame k's image (k = −1: the reference), 16-bit counts with a little noise. */
+export function frameImage(k: number, o: SequenceOptions): Field {
+  const common = { width: o.size, height: o.size, bitDepth: 16 as const, noiseSigma: 200, seed: 1000 + k };
+  return k >= 0 ? renderDots(dots(o), { ...common, displacement: (x, y) => frameShift(k, x, y, o.size) }) : renderDots(dots(o), common);
 }
 
 /**
@@ -94,24 +48,19 @@ async function png(file: string, data: Uint16Array, size: number): Promise<void>
 export async function writeSequence(dir: string, o: SequenceOptions): Promise<{ reference: string; pattern: string }> {
   mkdirSync(dir, { recursive: true });
   const reference = path.join(dir, 'ref.png');
-  await png(reference, frameImage(-1, o), o.size);
-  for (let k = 0; k < o.frames; k++) await png(path.join(dir, `frame_${String(k).padStart(5, '0')}.png`), frameImage(k, o), o.size);
+  await saveImage16(frameImage(-1, o), reference);
+  for (let k = 0; k < o.frames; k++) await saveImage16(frameImage(k, o), path.join(dir, `frame_${String(k).padStart(5, '0')}.png`));
   return { reference, pattern: path.join(dir, 'frame_%05d.png') };
 }
 
 /** Write one image of another size (a bad frame). */
 export async function writeOddFrame(file: string, size: number): Promise<void> {
-  await png(file, frameImage(-1, { size, frames: 1 }), size);
+  await saveImage16(frameImage(-1, { size, frames: 1 }), file);
 }
 
-/** Write a multi-page 16-bit TIFF of the first `pages` frames (the reference is page 0). */
+/** Write a multi-page 16-bit TIFF: page 0 the reference, pages 1… the frames. */
 export async function writeStack(file: string, o: SequenceOptions): Promise<void> {
   const pages = [frameImage(-1, o)];
   for (let k = 0; k < o.frames; k++) pages.push(frameImage(k, o));
-  const all = new Uint16Array(o.size * o.size * pages.length);
-  pages.forEach((p, i) => all.set(p, i * o.size * o.size));
-  await sharp(all, { raw: { width: o.size, height: o.size * pages.length, channels: 1, pageHeight: o.size } } as Record<string, unknown>)
-    .toColourspace('grey16')
-    .tiff({ pageHeight: o.size } as Record<string, unknown>)
-    .toFile(file);
+  await saveImageStack16(pages, file);
 }
