@@ -1,1 +1,10 @@
-export {};
+export type { DisplacementField, VectorGrid, VectorStatusCode } from './types.js';
+export { VectorStatus, VECTOR_STATUS_NAMES } from './types.js';
+export type { MeasureDisplacementOptions, DisplacementResult, PassReport } from './measureDisplacement.js';
+export { measureDisplacement, releaseDisplacementBuffers } from './measureDisplacement.js';
+export type { PassPlan, ScheduleOptions } from './schedule.js';
+export { buildSchedule, describeSchedule } from './schedule.js';
+export { windowGrid } from './windowGrid.js';
+export { gaussianPeak3 } from './gaussianPeak3.js';
+export { normalizedMedianTest, replaceByNeighbourMedian } from './normalizedMedianTest.js';
+export { closeWorkers } from './workerPool.js';

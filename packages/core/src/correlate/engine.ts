@@ -1,0 +1,182 @@
+/**
+ * The unchecked kernels of the displacement engine, run over chunks (row ranges) by the calling thread
+ * and by worker threads alike. All arrays may live in SharedArrayBuffers; a task carries only typed
+ * arrays and numbers, so posting it to a worker shares memory instead of copying it.
+ * Internal to the correlate stage.
+ */
+import { prefilterCols, prefilterRows, sampleBspline } from './bspline.js';
+import { FftWindowCorrelator, type CorrelationOutputs } from './fftCorrelator.js';
+import { axisTaps, type GridAxis } from './predictor.js';
+
+/** Images of one measurement. */
+export interface EngineImages {
+  width: number;
+  height: number;
+  /** Reference and measurement images as given (no mask applied). */
+  ref: Float32Array;
+  meas: Float32Array;
+  /** Cubic B-spline coefficients of ref and meas. */
+  coefRef: Float32Array;
+  coefMeas: Float32Array;
+  /** Deformed images of the current pass (NaN outside the image and where masked). */
+  defRef: Float32Array;
+  defMeas: Float32Array;
+  /** 1 = use; null when no mask. */
+  mask: Uint8Array | null;
+}
+
+export interface PrefilterTask {
+  op: 'prefilterRows' | 'prefilterCols';
+}
+
+export interface DeformTask {
+  op: 'deform';
+  /** Predictor interpolated along x for every grid row (rows × width), px. */
+  predX: Float32Array;
+  predY: Float32Array;
+  /** Grid rows axis (y of window centres). */
+  ay: GridAxis;
+}
+
+export interface CorrelateTask {
+  op: 'correlate';
+  source: 'original' | 'deformed';
+  windowPx: number;
+  cols: number;
+  rows: number;
+  /** Top-left pixel of window (0, 0), and window spacing, px. */
+  left: number;
+  top: number;
+  stepPx: number;
+  /** 1 = correlate this window, 0 = skip (masked); length cols × rows. */
+  active: Uint8Array;
+  /** Minimum number of finite pixels per window. */
+  minPixels: number;
+  out: CorrelationOutputs;
+}
+
+export type EngineTask = PrefilterTask | DeformTask | CorrelateTask;
+
+/** Rows (or columns, or grid rows) per chunk of each stage. */
+export const CHUNK = { prefilterRows: 64, prefilterCols: 64, deform: 32, correlate: 1 } as const;
+
+/** Number of chunks of a task. */
+export function chunkCount(img: EngineImages, task: EngineTask): number {
+  switch (task.op) {
+    case 'prefilterRows':
+      return 2 * Math.ceil(img.height / CHUNK.prefilterRows);
+    case 'prefilterCols':
+      return 2 * Math.ceil(img.width / CHUNK.prefilterCols);
+    case 'deform':
+      return Math.ceil(img.height / CHUNK.deform);
+    case 'correlate':
+      return Math.ceil(task.rows / CHUNK.correlate);
+  }
+}
+
+const correlators = new Map<number, FftWindowCorrelator>();
+function correlator(n: number): FftWindowCorrelator {
+  let c = correlators.get(n);
+  if (!c) correlators.set(n, (c = new FftWindowCorrelator(n)));
+  return c;
+}
+
+const tapIdx = new Int32Array(4);
+const tapW = new Float64Array(4);
+const tapTmp = new Float64Array(4);
+
+/** Run chunk `k` of a task. */
+export function runChunk(img: EngineImages, task: EngineTask, k: number): void {
+  const { width, height } = img;
+  switch (task.op) {
+    case 'prefilterRows': {
+      const per = Math.ceil(height / CHUNK.prefilterRows);
+      const second = k >= per;
+      const y0 = (second ? k - per : k) * CHUNK.prefilterRows;
+      prefilterRows(second ? img.meas : img.ref, second ? img.coefMeas : img.coefRef, width, y0, Math.min(height, y0 + CHUNK.prefilterRows));
+      return;
+    }
+    case 'prefilterCols': {
+      const per = Math.ceil(width / CHUNK.prefilterCols);
+      const second = k >= per;
+      const x0 = (second ? k - per : k) * CHUNK.prefilterCols;
+      prefilterCols(second ? img.coefMeas : img.coefRef, width, height, x0, Math.min(width, x0 + CHUNK.prefilterCols));
+      return;
+    }
+    case 'deform': {
+      const y0 = k * CHUNK.deform;
+      const y1 = Math.min(height, y0 + CHUNK.deform);
+      deformRows(img, task, y0, y1);
+      return;
+    }
+    case 'correlate': {
+      const r0 = k * CHUNK.correlate;
+      const r1 = Math.min(task.rows, r0 + CHUNK.correlate);
+      correlateRows(img, task, r0, r1);
+      return;
+    }
+  }
+}
+
+/**
+ * Symmetric window deformation of rows y0..y1−1: with the predictor p(x, y) interpolated to the pixel,
+ * the deformed reference is ref(x − p/2) and the deformed measurement meas(x + p/2), both sampled from
+ * their cubic B-splines (Scarano 2002, Meas. Sci. Technol. 13:R1, central difference image correction).
+ */
+function deformRows(img: EngineImages, t: DeformTask, y0: number, y1: number): void {
+  const { width, height, coefRef, coefMeas, defRef, defMeas, mask } = img;
+  const { predX, predY } = t;
+  for (let y = y0; y < y1; y++) {
+    axisTaps(t.ay, y, tapIdx, tapW, 0, tapTmp);
+    const r0 = tapIdx[0]! * width;
+    const r1 = tapIdx[1]! * width;
+    const r2 = tapIdx[2]! * width;
+    const r3 = tapIdx[3]! * width;
+    const w0 = tapW[0]!;
+    const w1 = tapW[1]!;
+    const w2 = tapW[2]!;
+    const w3 = tapW[3]!;
+    const o = y * width;
+    for (let x = 0; x < width; x++) {
+      const k = o + x;
+      if (mask && !mask[k]) {
+        defRef[k] = defMeas[k] = NaN;
+        continue;
+      }
+      const hx = 0.5 * (w0 * predX[r0 + x]! + w1 * predX[r1 + x]! + w2 * predX[r2 + x]! + w3 * predX[r3 + x]!);
+      const hy = 0.5 * (w0 * predY[r0 + x]! + w1 * predY[r1 + x]! + w2 * predY[r2 + x]! + w3 * predY[r3 + x]!);
+      defRef[k] = sampleBspline(coefRef, width, height, x - hx, y - hy);
+      defMeas[k] = sampleBspline(coefMeas, width, height, x + hx, y + hy);
+    }
+  }
+}
+
+function correlateRows(img: EngineImages, t: CorrelateTask, r0: number, r1: number): void {
+  const A = t.source === 'original' ? img.ref : img.defRef;
+  const B = t.source === 'original' ? img.meas : img.defMeas;
+  const cor = correlator(t.windowPx);
+  const { cols, out, active } = t;
+  let pending = -1;
+  for (let r = r0; r < r1; r++) {
+    const y0 = t.top + r * t.stepPx;
+    for (let c = 0; c < cols; c++) {
+      const k = c + r * cols;
+      if (!active[k]) {
+        out.dx[k] = out.dy[k] = out.correlation[k] = out.peakRatio[k] = NaN;
+        continue;
+      }
+      const slot = pending < 0 ? 0 : 1;
+      const got = cor.load(slot, A, B, img.width, t.left + c * t.stepPx, y0);
+      if (got < t.minPixels) {
+        out.dx[k] = out.dy[k] = out.correlation[k] = out.peakRatio[k] = NaN;
+        continue;
+      }
+      if (slot === 0) pending = k;
+      else {
+        cor.run(out, pending, k);
+        pending = -1;
+      }
+    }
+  }
+  if (pending >= 0) cor.run(out, pending, -1);
+}

@@ -1,0 +1,239 @@
+/**
+ * Normalised FFT cross-correlation of interrogation-window pairs, two pairs at a time.
+ *
+ * Packing (real-input FFT tricks, e.g. Press et al., Numerical Recipes, 3rd ed. 2007, §12.3): the two
+ * real windows a (reference) and b (measurement) of one pair go into one complex array z = a + i·b;
+ * after one forward 2-D FFT their spectra separate by Hermitian symmetry, A_k = (Z_k + conj Z_−k)/2,
+ * B_k = (Z_k − conj Z_−k)/(2i). The cross-spectrum conj(A_k)·B_k simplifies, with p = Z_k and
+ * q = Z_−k, to  Im(p·q)/2 + i·(|q|² − |p|²)/4.  Its inverse is real, so the cross-spectra of two pairs
+ * are combined as C₁ + i·C₂ and share one inverse FFT: 2 forward + 1 inverse complex FFT per two pairs.
+ *
+ * The correlation is circular, R(u) = Σₓ a(x)·b(x + u) over the window, with both windows
+ * mean-removed (over their finite pixels; NaN pixels — outside the image or masked — count as zero
+ * after mean removal). Dividing by √(Σa²·Σb²) makes the peak a correlation coefficient in −1…1.
+ * A peak at lag u means the measurement window's content sits at +u relative to the reference, i.e.
+ * the displacement (measured minus reference) is u.
+ *
+ * No allocation after construction; one instance per window size and thread.
+ */
+import FFT from 'fft.js';
+import { gaussianPeak3 } from './gaussianPeak3.js';
+
+/** Per-vector outputs written by the correlators (row-major over the vector grid). */
+export interface CorrelationOutputs {
+  dx: Float32Array;
+  dy: Float32Array;
+  correlation: Float32Array;
+  peakRatio: Float32Array;
+}
+
+/** Peak ratios are capped here (a secondary peak ≤ 0 would give infinity). */
+export const PEAK_RATIO_CAP = 1000;
+
+export class FftWindowCorrelator {
+  readonly n: number;
+  private readonly fft: FFT;
+  private readonly z: [Float64Array, Float64Array];
+  private readonly w: Float64Array;
+  private readonly t: Float64Array;
+  private readonly colIn: Float64Array;
+  private readonly colOut: Float64Array;
+  private readonly rowView: Float64Array[][];
+  private readonly energyA = new Float64Array(2);
+  private readonly energyB = new Float64Array(2);
+  private readonly loaded = new Uint8Array(2);
+
+  constructor(n: number) {
+    this.n = n;
+    this.fft = new FFT(n);
+    const size = 2 * n * n;
+    this.z = [new Float64Array(size), new Float64Array(size)];
+    this.w = new Float64Array(size);
+    this.t = new Float64Array(size);
+    this.colIn = new Float64Array(2 * n);
+    this.colOut = new Float64Array(2 * n);
+    const views = (buf: Float64Array): Float64Array[] => Array.from({ length: n }, (_, r) => buf.subarray(2 * n * r, 2 * n * (r + 1)));
+    this.rowView = [views(this.z[0]), views(this.z[1]), views(this.w), views(this.t)];
+  }
+
+  /**
+   * Cut the window pair with top-left pixel (x0, y0) from images A and B (row stride `stride`) into
+   * slot 0 or 1, mean-removed. @returns the number of pixels finite in both windows.
+   */
+  load(slot: 0 | 1, A: Float32Array, B: Float32Array, stride: number, x0: number, y0: number): number {
+    const n = this.n;
+    const z = this.z[slot];
+    let sa = 0;
+    let sb = 0;
+    let na = 0;
+    let nb = 0;
+    for (let r = 0; r < n; r++) {
+      let k = x0 + (y0 + r) * stride;
+      for (let c = 0; c < n; c++, k++) {
+        const a = A[k]!;
+        const b = B[k]!;
+        if (a === a) (sa += a), na++;
+        if (b === b) (sb += b), nb++;
+      }
+    }
+    const ma = na > 0 ? sa / na : 0;
+    const mb = nb > 0 ? sb / nb : 0;
+    let ea = 0;
+    let eb = 0;
+    let j = 0;
+    for (let r = 0; r < n; r++) {
+      let k = x0 + (y0 + r) * stride;
+      for (let c = 0; c < n; c++, k++, j += 2) {
+        const a = A[k]!;
+        const b = B[k]!;
+        const va = a === a ? a - ma : 0;
+        const vb = b === b ? b - mb : 0;
+        z[j] = va;
+        z[j + 1] = vb;
+        ea += va * va;
+        eb += vb * vb;
+      }
+    }
+    this.energyA[slot] = ea;
+    this.energyB[slot] = eb;
+    this.loaded[slot] = 1;
+    return na < nb ? na : nb;
+  }
+
+  /** Mark a slot empty (odd number of windows). */
+  clear(slot: 0 | 1): void {
+    this.z[slot].fill(0);
+    this.energyA[slot] = 0;
+    this.energyB[slot] = 0;
+    this.loaded[slot] = 0;
+  }
+
+  private fft2(buf: Float64Array, views: Float64Array[], inverse: boolean): void {
+    const n = this.n;
+    const fft = this.fft;
+    const t = this.t;
+    const tv = this.rowView[3]!;
+    for (let r = 0; r < n; r++) {
+      if (inverse) fft.inverseTransform(tv[r], views[r]);
+      else fft.transform(tv[r], views[r]);
+    }
+    const ci = this.colIn;
+    const co = this.colOut;
+    const n2 = 2 * n;
+    for (let c = 0; c < n; c++) {
+      for (let r = 0, k = 2 * c; r < n; r++, k += n2) {
+        ci[2 * r] = t[k]!;
+        ci[2 * r + 1] = t[k + 1]!;
+      }
+      if (inverse) fft.inverseTransform(co, ci);
+      else fft.transform(co, ci);
+      for (let r = 0, k = 2 * c; r < n; r++, k += n2) {
+        buf[k] = co[2 * r]!;
+        buf[k + 1] = co[2 * r + 1]!;
+      }
+    }
+  }
+
+  /**
+   * Correlate the loaded slots and write the results of slot s to index `out0` (slot 0) and `out1`
+   * (slot 1, ignored when −1) of the outputs. A window with zero energy gives NaN.
+   */
+  run(out: CorrelationOutputs, out0: number, out1: number): void {
+    const n = this.n;
+    const z0 = this.z[0];
+    const z1 = this.z[1];
+    const w = this.w;
+    this.fft2(z0, this.rowView[0]!, false);
+    if (out1 >= 0) this.fft2(z1, this.rowView[1]!, false);
+    else z1.fill(0);
+    const mask = n - 1;
+    for (let ky = 0; ky < n; ky++) {
+      const nky = (n - ky) & mask;
+      for (let kx = 0; kx < n; kx++) {
+        const i = 2 * (kx + ky * n);
+        const m = 2 * (((n - kx) & mask) + nky * n);
+        let pr = z0[i]!;
+        let pi = z0[i + 1]!;
+        let qr = z0[m]!;
+        let qi = z0[m + 1]!;
+        const c1r = 0.5 * (pr * qi + pi * qr);
+        const c1i = 0.25 * (qr * qr + qi * qi - pr * pr - pi * pi);
+        pr = z1[i]!;
+        pi = z1[i + 1]!;
+        qr = z1[m]!;
+        qi = z1[m + 1]!;
+        const c2r = 0.5 * (pr * qi + pi * qr);
+        const c2i = 0.25 * (qr * qr + qi * qi - pr * pr - pi * pi);
+        w[i] = c1r - c2i;
+        w[i + 1] = c1i + c2r;
+      }
+    }
+    this.fft2(w, this.rowView[2]!, true);
+    analysePeak(w, 0, n, this.energyA[0]! * this.energyB[0]!, out, out0);
+    if (out1 >= 0) analysePeak(w, 1, n, this.energyA[1]! * this.energyB[1]!, out, out1);
+  }
+}
+
+/**
+ * Find the primary peak of a circular correlation plane stored interleaved (`plane[2·i + o]`, lag 0
+ * at index 0), refine it with {@link gaussianPeak3} along x and y, and find the secondary peak: the
+ * highest local maximum (≥ its 8 neighbours) outside the primary's 3×3 neighbourhood.
+ */
+export function analysePeak(plane: Float64Array, o: number, n: number, energy: number, out: CorrelationOutputs, idx: number): void {
+  if (!(energy > 0)) {
+    out.dx[idx] = out.dy[idx] = out.correlation[idx] = out.peakRatio[idx] = NaN;
+    return;
+  }
+  const nn = n * n;
+  let best = -Infinity;
+  let bi = 0;
+  for (let i = 0; i < nn; i++) {
+    const v = plane[2 * i + o]!;
+    if (v > best) (best = v), (bi = i);
+  }
+  const mask = n - 1;
+  const px = bi & mask;
+  const py = (bi - px) / n;
+  const xm = (px - 1) & mask;
+  const xp = (px + 1) & mask;
+  const ym = (py - 1) & mask;
+  const yp = (py + 1) & mask;
+  const sx = gaussianPeak3(plane[2 * (xm + py * n) + o]!, best, plane[2 * (xp + py * n) + o]!);
+  const sy = gaussianPeak3(plane[2 * (px + ym * n) + o]!, best, plane[2 * (px + yp * n) + o]!);
+  const half = n >> 1;
+  out.dx[idx] = (px >= half ? px - n : px) + sx;
+  out.dy[idx] = (py >= half ? py - n : py) + sy;
+  out.correlation[idx] = best / Math.sqrt(energy);
+  // secondary peak
+  let second = -Infinity;
+  for (let y = 0; y < n; y++) {
+    const ddy = (y - py) & mask;
+    const nearY = ddy <= 1 || ddy === mask;
+    const yu = ((y - 1) & mask) * n;
+    const yc = y * n;
+    const yd = ((y + 1) & mask) * n;
+    for (let x = 0; x < n; x++) {
+      const v = plane[2 * (x + yc) + o]!;
+      if (v <= second) continue;
+      if (nearY) {
+        const ddx = (x - px) & mask;
+        if (ddx <= 1 || ddx === mask) continue;
+      }
+      const xl = (x - 1) & mask;
+      const xr = (x + 1) & mask;
+      if (
+        v >= plane[2 * (xl + yc) + o]! &&
+        v >= plane[2 * (xr + yc) + o]! &&
+        v >= plane[2 * (xl + yu) + o]! &&
+        v >= plane[2 * (x + yu) + o]! &&
+        v >= plane[2 * (xr + yu) + o]! &&
+        v >= plane[2 * (xl + yd) + o]! &&
+        v >= plane[2 * (x + yd) + o]! &&
+        v >= plane[2 * (xr + yd) + o]!
+      )
+        second = v;
+    }
+  }
+  const ratio = second > 0 ? best / second : PEAK_RATIO_CAP;
+  out.peakRatio[idx] = ratio > PEAK_RATIO_CAP ? PEAK_RATIO_CAP : ratio;
+}

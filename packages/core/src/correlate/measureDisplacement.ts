@@ -1,0 +1,404 @@
+/**
+ * Displacement between a reference and a measurement image by multi-pass FFT cross-correlation of
+ * interrogation windows with symmetric window deformation, normalized median test, optional mask and
+ * camera-shake removal. See {@link describeSchedule} for the passes.
+ */
+import os from 'node:os';
+import { inputError, invalidParameter } from '../util/errors.js';
+import type { Field, MaskField } from '../util/field.js';
+import { CHUNK, chunkCount, runChunk, type CorrelateTask, type EngineImages, type EngineTask } from './engine.js';
+import { fillHoles, normalizedMedianTest, replaceByNeighbourMedian } from './normalizedMedianTest.js';
+import { predictorAt, predictorRows, type GridAxis } from './predictor.js';
+import { buildSchedule, type PassPlan } from './schedule.js';
+import { VectorStatus, type DisplacementField, type VectorGrid } from './types.js';
+import { windowGrid } from './windowGrid.js';
+import { enginePool } from './workerPool.js';
+
+/** Options of {@link measureDisplacement}. */
+export interface MeasureDisplacementOptions {
+  /** Final interrogation window side, px: a power of two 16–128 (default 32). */
+  windowPx?: number;
+  /** Spacing of the final windows, px, integer ≥ 1 (default windowPx/2, i.e. 50 % overlap). */
+  stepPx?: number;
+  /** Number of passes, integer 1–12 (default 3; see describeSchedule). */
+  passes?: number;
+  /**
+   * Pixels to use (1) or ignore (0), same size as the images; applied to both images. A window whose
+   * centre pixel (x₀ + W/2, y₀ + W/2) is masked, or with fewer than half of its pixels unmasked, is
+   * reported as `masked` with NaN.
+   */
+  mask?: MaskField;
+  /** Normalized median test threshold (default 2; Westerweel & Scarano 2005). */
+  medianThreshold?: number;
+  /** Normalized median test noise level ε, px (default 0.1). */
+  medianEpsilonPx?: number;
+  /**
+   * Flow-free rectangle `[x0, y0, x1, y1]` in image pixels (inclusive corners): the mean displacement of
+   * the valid vectors whose centres lie inside is subtracted from every vector (camera shake).
+   */
+  flowFreeRegionPx?: readonly [number, number, number, number];
+  /** Threads (calling thread + worker threads), default the number of cores; 1 runs in-process. */
+  threads?: number;
+}
+
+/** Per-pass report. */
+export interface PassReport extends PassPlan {
+  cols: number;
+  rows: number;
+  /** Vectors flagged by the median test in this pass. */
+  outliers: number;
+  /** Wall time of this pass's stages, ms. */
+  ms: { deform: number; correlate: number; validate: number };
+}
+
+/** Result of {@link measureDisplacement}: the field plus how it was obtained. */
+export interface DisplacementResult extends DisplacementField {
+  /** Count of vectors per status. */
+  counts: { valid: number; replaced: number; masked: number; failed: number };
+  passes: PassReport[];
+  /** Camera shake removed (mean of the flow-free region), px; absent without a region. */
+  shakePx?: { dx: number; dy: number; vectors: number };
+  /** Threads used. */
+  threads: number;
+  /** Wall times, ms: setup (copy, checks), prefilter (B-spline), passes, total. */
+  timingsMs: { setup: number; prefilter: number; passes: number; total: number };
+}
+
+function isPow2(n: number): boolean {
+  return Number.isInteger(n) && n > 0 && (n & (n - 1)) === 0;
+}
+
+function checkField(name: string, f: unknown): Field {
+  const g = f as Field;
+  if (!g || typeof g !== 'object' || !Number.isInteger(g.width) || !Number.isInteger(g.height) || !(g.data instanceof Float32Array))
+    throw invalidParameter(name, 'a Field {width, height, data: Float32Array}', f);
+  if (g.width < 1 || g.height < 1 || g.data.length !== g.width * g.height)
+    throw invalidParameter(name, `data of length width × height`, `${g.width}×${g.height} with ${g.data.length} values`);
+  return g;
+}
+
+function texture(name: string, f: Field): number {
+  const d = f.data;
+  let s = 0;
+  for (let i = 0; i < d.length; i++) {
+    const v = d[i]!;
+    if (!Number.isFinite(v)) throw inputError(`${name} image has a non-finite value (${v}) at pixel (${i % f.width}, ${Math.floor(i / f.width)}); images must be finite counts`);
+    s += v;
+  }
+  const m = s / d.length;
+  let v2 = 0;
+  for (let i = 0; i < d.length; i++) v2 += (d[i]! - m) ** 2;
+  return Math.sqrt(v2 / d.length);
+}
+
+/** Validated options with defaults. */
+interface Resolved {
+  windowPx: number;
+  stepPx: number;
+  passes: number;
+  medianThreshold: number;
+  medianEpsilonPx: number;
+  threads: number;
+  mask: MaskField | undefined;
+  region: readonly [number, number, number, number] | undefined;
+}
+
+function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions): Resolved {
+  if (ref.width !== meas.width || ref.height !== meas.height)
+    throw inputError(`reference image is ${ref.width}×${ref.height} px but measurement image is ${meas.width}×${meas.height} px; both images must have the same size`);
+  const windowPx = o.windowPx ?? 32;
+  if (!isPow2(windowPx) || windowPx < 16 || windowPx > 128)
+    throw invalidParameter('windowPx', 'a power of two from 16 to 128 (px)', o.windowPx, 'use 16, 32, 64 or 128');
+  if (windowPx > ref.width || windowPx > ref.height)
+    throw invalidParameter('windowPx', `a window no larger than the image (${ref.width}×${ref.height} px)`, windowPx, 'use a smaller window');
+  const stepPx = o.stepPx ?? windowPx / 2;
+  if (!Number.isInteger(stepPx) || stepPx < 1) throw invalidParameter('stepPx', 'an integer ≥ 1 (px)', o.stepPx);
+  const passes = o.passes ?? 3;
+  if (!Number.isInteger(passes) || passes < 1 || passes > 12) throw invalidParameter('passes', 'an integer from 1 to 12', o.passes);
+  const medianThreshold = o.medianThreshold ?? 2;
+  if (typeof medianThreshold !== 'number' || !(medianThreshold > 0) || !Number.isFinite(medianThreshold))
+    throw invalidParameter('medianThreshold', 'a positive number (2 is usual)', o.medianThreshold);
+  const medianEpsilonPx = o.medianEpsilonPx ?? 0.1;
+  if (typeof medianEpsilonPx !== 'number' || !(medianEpsilonPx >= 0) || !Number.isFinite(medianEpsilonPx))
+    throw invalidParameter('medianEpsilonPx', 'a number ≥ 0 (px; 0.1 is usual)', o.medianEpsilonPx);
+  const threads = o.threads ?? Math.max(1, os.availableParallelism?.() ?? os.cpus().length);
+  if (!Number.isInteger(threads) || threads < 1 || threads > 256) throw invalidParameter('threads', 'an integer from 1 to 256', o.threads);
+  const mask = o.mask;
+  if (mask !== undefined) {
+    if (!mask || !(mask.data instanceof Uint8Array) || mask.data.length !== mask.width * mask.height)
+      throw invalidParameter('mask', 'a MaskField {width, height, data: Uint8Array}', mask);
+    if (mask.width !== ref.width || mask.height !== ref.height)
+      throw inputError(`mask is ${mask.width}×${mask.height} px but the images are ${ref.width}×${ref.height} px; the mask must have the images' size`);
+  }
+  const region = o.flowFreeRegionPx;
+  if (region !== undefined) {
+    const ok = Array.isArray(region) && region.length === 4 && region.every((v) => typeof v === 'number' && Number.isFinite(v)) && region[0] <= region[2] && region[1] <= region[3];
+    if (!ok) throw invalidParameter('flowFreeRegionPx', '[x0, y0, x1, y1] in image pixels with x0 ≤ x1 and y0 ≤ y1', region);
+  }
+  const sdRef = texture('reference', ref);
+  if (!(sdRef > 1e-6 * Math.max(1, Math.abs(ref.data[0]!))))
+    throw inputError(`reference image has no texture (standard deviation ${sdRef.toPrecision(3)}); check the file/exposure`);
+  const sdMeas = texture('measurement', meas);
+  if (!(sdMeas > 1e-6 * Math.max(1, Math.abs(meas.data[0]!))))
+    throw inputError(`measurement image has no texture (standard deviation ${sdMeas.toPrecision(3)}); check the file/exposure`);
+  return { windowPx, stepPx, passes, medianThreshold, medianEpsilonPx, threads, mask, region };
+}
+
+/** Buffers reused between calls of the same size (first writes to fresh memory are slow). */
+let cache: { width: number; height: number; shared: boolean; bufs: Float32Array[]; mask: Uint8Array } | null = null;
+
+function buffers(width: number, height: number, shared: boolean): { bufs: Float32Array[]; mask: Uint8Array } {
+  if (!cache || cache.width !== width || cache.height !== height || cache.shared !== shared) {
+    cache = null;
+    const n = width * height;
+    const make = (): Float32Array => (shared ? new Float32Array(new SharedArrayBuffer(4 * n)) : new Float32Array(n));
+    cache = {
+      width,
+      height,
+      shared,
+      bufs: [make(), make(), make(), make(), make(), make()],
+      mask: shared ? new Uint8Array(new SharedArrayBuffer(n)) : new Uint8Array(n),
+    };
+  }
+  return cache;
+}
+
+/** Release the buffers kept for the next call (they are otherwise reused while the size stays the same). */
+export function releaseDisplacementBuffers(): void {
+  cache = null;
+}
+
+function sharedF32(n: number, shared: boolean): Float32Array {
+  return shared ? new Float32Array(new SharedArrayBuffer(4 * n)) : new Float32Array(n);
+}
+
+/**
+ * Which windows of a grid to correlate: not when the pixel at (x₀ + W/2, y₀ + W/2) is masked or fewer
+ * than half of the window's pixels are unmasked. Uses a summed-area table of the mask.
+ */
+function activeWindows(grid: VectorGrid, W: number, mask: MaskField | undefined, sat: Float64Array | null, shared: boolean): Uint8Array {
+  const n = grid.cols * grid.rows;
+  const active = shared ? new Uint8Array(new SharedArrayBuffer(n)) : new Uint8Array(n);
+  if (!mask || !sat) return active.fill(1);
+  const w1 = mask.width + 1;
+  for (let r = 0; r < grid.rows; r++)
+    for (let c = 0; c < grid.cols; c++) {
+      const x0 = grid.xPx[c]! - (W - 1) / 2;
+      const y0 = grid.yPx[r]! - (W - 1) / 2;
+      const inside = sat[x0 + W + (y0 + W) * w1]! - sat[x0 + (y0 + W) * w1]! - sat[x0 + W + y0 * w1]! + sat[x0 + y0 * w1]!;
+      const centre = mask.data[x0 + W / 2 + (y0 + W / 2) * mask.width]!;
+      active[c + r * grid.cols] = centre && inside >= (W * W) / 2 ? 1 : 0;
+    }
+  return active;
+}
+
+function summedArea(mask: MaskField): Float64Array {
+  const { width, height, data } = mask;
+  const w1 = width + 1;
+  const s = new Float64Array(w1 * (height + 1));
+  for (let y = 0; y < height; y++) {
+    let row = 0;
+    for (let x = 0; x < width; x++) {
+      row += data[x + y * width] ? 1 : 0;
+      s[x + 1 + (y + 1) * w1] = s[x + 1 + y * w1]! + row;
+    }
+  }
+  return s;
+}
+
+/**
+ * Measure the displacement field between two images (measured minus reference, +x right, +y down, px).
+ *
+ * Method: interrogation windows on a regular grid ({@link windowGrid}), mean-removed FFT
+ * cross-correlation normalised to a correlation coefficient, three-point Gaussian sub-pixel peak
+ * (Willert & Gharib 1991), multi-pass with symmetric window deformation (Scarano 2002), normalized
+ * median test with replacement after each pass (Westerweel & Scarano 2005). Work is split over
+ * `threads` (worker threads sharing memory; `threads: 1` runs in-process).
+ *
+ * @param ref reference image (counts). @param meas measurement image, same size.
+ * @param options see {@link MeasureDisplacementOptions}.
+ * @returns the field on the final grid with per-vector status, peak ratio and correlation value,
+ *   plus per-pass reports and timings.
+ * @throws RhofieldError (usage) for bad options, (input) for mismatched sizes or textureless images.
+ * @example const d = await measureDisplacement(ref, meas, { windowPx: 32, passes: 3 });
+ */
+export async function measureDisplacement(ref: Field, meas: Field, options: MeasureDisplacementOptions = {}): Promise<DisplacementResult> {
+  const t0 = performance.now();
+  checkField('ref', ref);
+  checkField('meas', meas);
+  if (options === null || typeof options !== 'object') throw invalidParameter('options', 'an options object', options);
+  const o = resolve(ref, meas, options);
+  const { width, height } = ref;
+  const schedule = buildSchedule({ ...o, width, height });
+  const shared = o.threads > 1;
+  const deforming = schedule.some((p) => p.deform) || o.mask !== undefined;
+
+  // images
+  const { bufs, mask: maskBuf } = buffers(width, height, shared);
+  let refData = ref.data;
+  let measData = meas.data;
+  if (shared) {
+    bufs[0]!.set(ref.data);
+    bufs[1]!.set(meas.data);
+    refData = bufs[0]!;
+    measData = bufs[1]!;
+  }
+  if (o.mask) maskBuf.set(o.mask.data);
+  const img: EngineImages = {
+    width,
+    height,
+    ref: refData,
+    meas: measData,
+    coefRef: bufs[2]!,
+    coefMeas: bufs[3]!,
+    defRef: bufs[4]!,
+    defMeas: bufs[5]!,
+    mask: o.mask ? maskBuf : null,
+  };
+  const pool = shared ? await enginePool(o.threads - 1) : null;
+  const stage = async (task: EngineTask): Promise<void> => {
+    if (pool) return pool.stage(img, task);
+    const n = chunkCount(img, task);
+    for (let k = 0; k < n; k++) runChunk(img, task, k);
+  };
+  const sat = o.mask ? summedArea(o.mask) : null;
+  const t1 = performance.now();
+
+  if (deforming) {
+    await stage({ op: 'prefilterRows' });
+    await stage({ op: 'prefilterCols' });
+  }
+  const t2 = performance.now();
+
+  const reports: PassReport[] = [];
+  let prev: { grid: VectorGrid; dx: Float32Array; dy: Float32Array } | null = null;
+  let last: { grid: VectorGrid; out: CorrelateTask['out']; active: Uint8Array; flagged: Uint8Array } | null = null;
+  const pt = new Float64Array(2);
+  for (let pi = 0; pi < schedule.length; pi++) {
+    const plan = schedule[pi]!;
+    const W = plan.windowPx;
+    const grid = windowGrid(width, height, W, plan.stepPx);
+    const n = grid.cols * grid.rows;
+    const ta = performance.now();
+    let source: 'original' | 'deformed' = 'original';
+    let pAx: GridAxis | null = null;
+    let pAy: GridAxis | null = null;
+    if (plan.deform && prev) {
+      const pg = prev.grid;
+      pAx = { origin: pg.xPx[0]!, step: pg.cols > 1 ? pg.xPx[1]! - pg.xPx[0]! : 1, count: pg.cols };
+      pAy = { origin: pg.yPx[0]!, step: pg.rows > 1 ? pg.yPx[1]! - pg.yPx[0]! : 1, count: pg.rows };
+      const predX = sharedF32(pg.rows * width, shared);
+      const predY = sharedF32(pg.rows * width, shared);
+      predictorRows(prev.dx, prev.dy, pAx, pg.rows, width, predX, predY);
+      await stage({ op: 'deform', predX, predY, ay: pAy });
+      source = 'deformed';
+    } else if (o.mask) {
+      // no predictor yet: a zero deformation applies the mask (NaN) to both images
+      const z = sharedF32(width, shared);
+      await stage({ op: 'deform', predX: z, predY: z, ay: { origin: 0, step: 1, count: 1 } });
+      source = 'deformed';
+    }
+    const tb = performance.now();
+    const out = { dx: sharedF32(n, shared), dy: sharedF32(n, shared), correlation: sharedF32(n, shared), peakRatio: sharedF32(n, shared) };
+    const active = activeWindows(grid, W, o.mask, sat, shared);
+    await stage({
+      op: 'correlate',
+      source,
+      windowPx: W,
+      cols: grid.cols,
+      rows: grid.rows,
+      left: grid.xPx[0]! - (W - 1) / 2,
+      top: grid.yPx[0]! - (W - 1) / 2,
+      stepPx: plan.stepPx,
+      active,
+      minPixels: (W * W) / 2,
+      out,
+    });
+    const tc = performance.now();
+    if (source === 'deformed' && prev && pAx && pAy) {
+      for (let r = 0; r < grid.rows; r++)
+        for (let c = 0; c < grid.cols; c++) {
+          const k = c + r * grid.cols;
+          if (!(out.dx[k]! === out.dx[k]!)) continue;
+          predictorAt(prev.dx, prev.dy, pAx, pAy, grid.xPx[c]!, grid.yPx[r]!, pt);
+          out.dx[k] = out.dx[k]! + pt[0]!;
+          out.dy[k] = out.dy[k]! + pt[1]!;
+        }
+    }
+    // median test and replacement (failed, unmasked windows are replaced too)
+    const dxF: Field = { width: grid.cols, height: grid.rows, data: out.dx };
+    const dyF: Field = { width: grid.cols, height: grid.rows, data: out.dy };
+    const flagged = new Uint8Array(n);
+    const outliers = normalizedMedianTest(dxF, dyF, o.medianThreshold, o.medianEpsilonPx, flagged);
+    for (let k = 0; k < n; k++) if (active[k] && !(out.dx[k]! === out.dx[k]!)) flagged[k] = 1;
+    replaceByNeighbourMedian(dxF, dyF, flagged);
+    for (let k = 0; k < n; k++) if (!active[k]) out.dx[k] = out.dy[k] = NaN;
+    const td = performance.now();
+    reports.push({ ...plan, cols: grid.cols, rows: grid.rows, outliers, ms: { deform: tb - ta, correlate: tc - tb, validate: td - tc } });
+    last = { grid, out, active, flagged };
+    if (pi < schedule.length - 1) {
+      const px = out.dx.slice();
+      const py = out.dy.slice();
+      fillHoles(px, py, grid.cols, grid.rows);
+      prev = { grid, dx: px, dy: py };
+    }
+  }
+  const t3 = performance.now();
+  const { grid, out, active, flagged } = last!;
+  const n = grid.cols * grid.rows;
+  const status = new Uint8Array(n);
+  const counts = { valid: 0, replaced: 0, masked: 0, failed: 0 };
+  for (let k = 0; k < n; k++) {
+    const s = !active[k] ? VectorStatus.masked : !(out.dx[k]! === out.dx[k]!) ? VectorStatus.failed : flagged[k] ? VectorStatus.replaced : VectorStatus.valid;
+    status[k] = s;
+    if (s === VectorStatus.valid) counts.valid++;
+    else if (s === VectorStatus.replaced) counts.replaced++;
+    else if (s === VectorStatus.masked) counts.masked++;
+    else counts.failed++;
+  }
+  const dx = Float32Array.from(out.dx);
+  const dy = Float32Array.from(out.dy);
+  let shakePx: DisplacementResult['shakePx'];
+  if (o.region) {
+    const [x0, y0, x1, y1] = o.region;
+    let sx = 0;
+    let sy = 0;
+    let m = 0;
+    for (let r = 0; r < grid.rows; r++)
+      for (let c = 0; c < grid.cols; c++) {
+        const k = c + r * grid.cols;
+        const x = grid.xPx[c]!;
+        const y = grid.yPx[r]!;
+        if (status[k] === VectorStatus.valid && x >= x0 && x <= x1 && y >= y0 && y <= y1) (sx += dx[k]!), (sy += dy[k]!), m++;
+      }
+    if (m === 0)
+      throw inputError(
+        `flowFreeRegionPx [${o.region.join(', ')}] contains no valid vector centre (grid spacing ${grid.cols > 1 ? grid.xPx[1]! - grid.xPx[0]! : 0} px); enlarge the region`,
+      );
+    sx /= m;
+    sy /= m;
+    for (let k = 0; k < n; k++) {
+      dx[k] = dx[k]! - sx;
+      dy[k] = dy[k]! - sy;
+    }
+    shakePx = { dx: sx, dy: sy, vectors: m };
+  }
+  const f = (data: Float32Array): Field => ({ width: grid.cols, height: grid.rows, data });
+  const t4 = performance.now();
+  return {
+    grid,
+    dxPx: f(dx),
+    dyPx: f(dy),
+    peakRatio: f(Float32Array.from(out.peakRatio)),
+    correlation: f(Float32Array.from(out.correlation)),
+    status,
+    counts,
+    passes: reports,
+    ...(shakePx ? { shakePx } : {}),
+    threads: o.threads,
+    timingsMs: { setup: t1 - t0, prefilter: t2 - t1, passes: t3 - t2, total: t4 - t0 },
+  };
+}
+
+/** Chunk sizes of the engine's stages (for benchmarks). */
+export const ENGINE_CHUNKS = CHUNK;
