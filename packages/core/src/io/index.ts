@@ -1,1 +1,15 @@
-export {};
+export { validateFieldSet, unitSlug, columnName, defaultColormap } from './fieldSet.js';
+export type { FieldSet, FieldSetGrid, FieldSetField, FieldSetVector, FieldSetCategorical } from './fieldSet.js';
+export { fieldToNpy, writeNpy, vectorToNpy } from './writeNpy.js';
+export { formatFloat32, fieldSetToCsv, writeCsv } from './writeCsv.js';
+export { writeHdf5 } from './writeHdf5.js';
+export { fieldSetToVti, writeVti } from './writeVti.js';
+export { fieldSetToMat, writeMat } from './writeMat.js';
+export { FIELD_SET_FORMATS, parseFormats, writeFieldSet } from './writeFieldSet.js';
+export type { FieldSetFormat, WriteFieldSetOptions, WrittenFile } from './writeFieldSet.js';
+export { encodePng, pngDataUri } from './encodePng.js';
+export { colormapLut, lutColour, parseCssColour } from './colormaps.js';
+export type { ColormapKind } from './colormaps.js';
+export { niceTicks, niceStep, formatTick } from './niceTicks.js';
+export { renderFieldFigure, renderRgbFigure, figureRange } from './renderFieldFigure.js';
+export type { Figure, FieldFigureOptions, FigureFrameOptions, FigureVectors, RgbFigureOptions, RgbImage } from './renderFieldFigure.js';
