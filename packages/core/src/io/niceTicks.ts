@@ -29,7 +29,7 @@ export function niceTicks(min: number, max: number, count = 5): number[] {
   const i0 = Math.ceil(min / step - 1e-9);
   const i1 = Math.floor(max / step + 1e-9);
   const out: number[] = [];
-  for (let i = i0; i <= i1; i++) out.push(i * step);
+  for (let i = i0; i <= i1; i++) out.push(i * step + 0); // + 0 turns -0 into 0
   return out;
 }
 
