@@ -12,4 +12,4 @@ export { colormapLut, lutColour, parseCssColour } from './colormaps.js';
 export type { ColormapKind } from './colormaps.js';
 export { niceTicks, niceStep, formatTick } from './niceTicks.js';
 export { renderFieldFigure, renderRgbFigure, figureRange } from './renderFieldFigure.js';
-export type { Figure, FieldFigureOptions, FigureFrameOptions, FigureVectors, RgbFigureOptions, RgbImage } from './renderFieldFigure.js';
+export type { ContourLevel, Figure, FieldFigureOptions, FigureFrameOptions, FigureVectors, RgbFigureOptions, RgbImage } from './renderFieldFigure.js';

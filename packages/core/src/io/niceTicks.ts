@@ -39,3 +39,29 @@ export function formatTick(v: number, step: number): string {
   const s = (Math.abs(v) < step * 1e-6 ? 0 : v).toFixed(Math.min(decimals, 12));
   return s.replace('-', '−');
 }
+
+const SUPERSCRIPT: Record<string, string> = { '-': '⁻', '0': '⁰', '1': '¹', '2': '²', '3': '³', '4': '⁴', '5': '⁵', '6': '⁶', '7': '⁷', '8': '⁸', '9': '⁹' };
+
+/** `10` with a superscript exponent, e.g. 10⁻⁴. */
+export function powerOfTenLabel(k: number): string {
+  return '10' + String(k).split('').map((c) => SUPERSCRIPT[c] ?? c).join('');
+}
+
+/**
+ * A single value for a label with `digits` significant digits: plain below 10⁴ and from 10⁻²
+ * (e.g. `0.25`, `1200`), otherwise as mantissa × power of ten (e.g. `9.5×10⁻⁵`).
+ */
+export function formatValue(v: number, digits = 2): string {
+  if (!Number.isFinite(v)) return String(v);
+  if (v === 0) return '0';
+  const a = Math.abs(v);
+  if (a >= 1e-2 && a < 1e4) return String(Number(v.toPrecision(digits))).replace('-', '−');
+  const k = Math.floor(Math.log10(a));
+  let m = Number((v / 10 ** k).toPrecision(digits));
+  let kk = k;
+  if (Math.abs(m) >= 10) {
+    m /= 10;
+    kk += 1;
+  }
+  return `${String(m).replace('-', '−')}×${powerOfTenLabel(kk)}`;
+}

@@ -22,7 +22,7 @@ import { invalidParameter } from '../util/errors.js';
 import type { Field, MaskField } from '../util/field.js';
 import { colormapLut, type ColormapKind } from './colormaps.js';
 import { encodePng, pngDataUri } from './encodePng.js';
-import { formatTick, niceStep, niceTicks } from './niceTicks.js';
+import { formatTick, formatValue, niceStep, niceTicks, powerOfTenLabel } from './niceTicks.js';
 
 /** An 8-bit RGB picture on a grid (3 bytes per cell, row-major, y down). */
 export interface RgbImage {
@@ -50,6 +50,16 @@ export interface FigureVectors {
   readonly scale?: number;
 }
 
+/**
+ * Contour lines of one level as segments in grid-index coordinates: segment k runs from
+ * (segments[4k], segments[4k+1]) to (segments[4k+2], segments[4k+3]), x = column, y = row (cell
+ * centres at integers).
+ */
+export interface ContourLevel {
+  readonly level: number;
+  readonly segments: Float64Array;
+}
+
 /** Options shared by {@link renderFieldFigure} and {@link renderRgbFigure}. */
 export interface FigureFrameOptions {
   /** Column centres: one value per column, or [first, last]. mm unless `axisUnit` is 'px'. */
@@ -62,6 +72,8 @@ export interface FigureFrameOptions {
   /** Cells to hatch as "no data" (0 = no data), same size as the field. */
   readonly mask?: MaskField;
   readonly vectors?: FigureVectors;
+  /** Contour lines drawn over the field (and marked on the colour bar). */
+  readonly contours?: readonly ContourLevel[];
   /** Output width in pixels (default 800). Ignored when `widthMm` and `dpi` are given. */
   readonly widthPx?: number;
   /** Print width in mm (with `dpi`). */
@@ -86,7 +98,7 @@ export interface FieldFigureOptions extends FigureFrameOptions {
 
 /** Options of {@link renderRgbFigure}. */
 export interface RgbFigureOptions extends FigureFrameOptions {
-  /** Key drawn right of the plot: a colour wheel (hue = direction, brightness = magnitude) or none. */
+  /** Key drawn right of the plot: a colour wheel (hue = direction, brightness = magnitude) with a label and extra lines (`maxLabel`, '\n'-separated), or none. */
   readonly key?: { readonly type: 'wheel'; readonly label: string; readonly maxLabel?: string } | { readonly type: 'none' };
 }
 
@@ -111,10 +123,6 @@ function esc(s: string): string {
   return s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;');
 }
 
-const SUP: Record<string, string> = { '-': '⁻', '0': '⁰', '1': '¹', '2': '²', '3': '³', '4': '⁴', '5': '⁵', '6': '⁶', '7': '⁷', '8': '⁸', '9': '⁹' };
-function pow10Label(k: number): string {
-  return '10' + String(k).split('').map((c) => SUP[c] ?? c).join('');
-}
 
 function fmt(v: number): string {
   return (Math.round(v * 100) / 100).toString();
@@ -289,8 +297,21 @@ function vectorsSvg(fr: Frame, cols: number, rows: number, vec: FigureVectors): 
     `<path d="${path}" fill="none" stroke="#fff" stroke-opacity="0.75" stroke-width="2.4" stroke-linecap="round"/>`,
     `<path d="${path}" fill="none" stroke="#000" stroke-width="1" stroke-linecap="round"/>`,
     `<path d="${refPath}" fill="none" stroke="#000" stroke-width="1.2"/>`,
-    `<text x="${fmt(rx1 - refLen - 8)}" y="${fmt(ry + 4)}" font-size="12" text-anchor="end">${esc(`${formatTick(ref, nice125(ref))} ${vec.units}`)}</text>`,
+    `<text x="${fmt(rx1 - refLen - 8)}" y="${fmt(ry + 4)}" font-size="12" text-anchor="end">${esc(`${formatValue(ref)} ${vec.units}`)}</text>`,
   ].join('\n');
+}
+
+function contoursSvg(fr: Frame, cols: number, rows: number, levels: readonly ContourLevel[]): string {
+  const cw = fr.plotW / cols;
+  const ch = fr.plotH / rows;
+  const d: string[] = [];
+  for (const lv of levels) {
+    const s = lv.segments;
+    for (let k = 0; k + 3 < s.length; k += 4) {
+      d.push(`M${fmt(fr.left + (s[k]! + 0.5) * cw)} ${fmt(fr.top + (s[k + 1]! + 0.5) * ch)}L${fmt(fr.left + (s[k + 2]! + 0.5) * cw)} ${fmt(fr.top + (s[k + 3]! + 0.5) * ch)}`);
+    }
+  }
+  return `<path d="${d.join('')}" fill="none" stroke="#000" stroke-width="0.9" stroke-linecap="round"/>`;
 }
 
 function svgDocument(fr: Frame, body: string, title: string | undefined): string {
@@ -407,11 +428,18 @@ export function renderFieldFigure(field: Field, options: FieldFigureOptions): Fi
     parts.push(`<text x="${fmt(bx + bw + 8)}" y="${fmt(y + 4)}" font-size="12">${formatTick(t, step)}</text>`);
   }
   const unit = options.unit.trim();
-  const unitPart = k10 !== 0 ? `${pow10Label(k10)}${unit && unit !== '1' ? ' ' + unit : ''}` : unit && unit !== '1' ? unit : '';
+  const unitPart = k10 !== 0 ? `${powerOfTenLabel(k10)}${unit && unit !== '1' ? ' ' + unit : ''}` : unit && unit !== '1' ? unit : '';
   const label = unitPart ? `${options.quantity} (${unitPart})` : options.quantity;
   const lx = fr.W - 14;
   const ly = fr.top + fr.plotH / 2;
   parts.push(`<text x="${fmt(lx)}" y="${fmt(ly)}" font-size="13" text-anchor="middle" transform="rotate(-90 ${fmt(lx)} ${fmt(ly)})">${esc(label)}</text>`);
+  for (const lv of options.contours ?? []) {
+    const t = (lv.level - lo) * inv;
+    if (t < 0 || t > 1) continue;
+    const y = fr.top + fr.plotH * (1 - t);
+    parts.push(`<line x1="${fmt(bx)}" y1="${fmt(y)}" x2="${fmt(bx + bw)}" y2="${fmt(y)}" stroke="#000" stroke-width="0.9"/>`);
+  }
+  if (options.contours?.length) parts.push(contoursSvg(fr, cols, rows, options.contours));
   if (options.vectors) parts.push(vectorsSvg(fr, cols, rows, options.vectors));
   return makeFigure(fr, svgDocument(fr, parts.join('\n'), options.title));
 }
@@ -455,7 +483,7 @@ export function renderRgbFigure(
   const mask = options.mask;
   if (mask && (mask.width !== cols || mask.height !== rows)) throw invalidParameter('mask', `${cols}×${rows} (the picture)`, `${mask.width}×${mask.height}`);
   const key = options.key ?? { type: 'none' as const };
-  const fr = frameOf(options, cols, rows, key.type === 'wheel' ? 130 : 10);
+  const fr = frameOf(options, cols, rows, key.type === 'wheel' ? 150 : 10);
   const md = mask?.data;
   const valid = image.valid;
   const { png } = plotRaster(fr, cols, rows, (i, out, o) => {
@@ -475,8 +503,11 @@ export function renderRgbFigure(
     parts.push(`<text x="${fmt(cx + d / 2 + 3)}" y="${fmt(cy + 4)}" font-size="11">+x</text>`);
     parts.push(`<text x="${fmt(cx)}" y="${fmt(cy - d / 2 - 4)}" font-size="11" text-anchor="middle">up</text>`);
     parts.push(`<text x="${fmt(cx)}" y="${fmt(cy + d / 2 + 16)}" font-size="12" text-anchor="middle">${esc(key.label)}</text>`);
-    if (key.maxLabel) parts.push(`<text x="${fmt(cx)}" y="${fmt(cy + d / 2 + 32)}" font-size="11" text-anchor="middle">${esc(key.maxLabel)}</text>`);
+    (key.maxLabel ?? '').split('\n').filter(Boolean).forEach((line, k) => {
+      parts.push(`<text x="${fmt(cx)}" y="${fmt(cy + d / 2 + 32 + 15 * k)}" font-size="11" text-anchor="middle">${esc(line)}</text>`);
+    });
   }
+  if (options.contours?.length) parts.push(contoursSvg(fr, cols, rows, options.contours));
   if (options.vectors) parts.push(vectorsSvg(fr, cols, rows, options.vectors));
   return makeFigure(fr, svgDocument(fr, parts.join('\n'), options.title));
 }
