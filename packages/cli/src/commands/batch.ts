@@ -8,6 +8,7 @@ import path from 'node:path';
 import type { Command } from 'commander';
 import cliProgress from 'cli-progress';
 import {
+  FIELD_SET_FORMATS,
   PAIRING_MODES,
   invalidParameter,
   loadSetup,
@@ -50,7 +51,7 @@ export interface BatchOpts {
   verbose?: boolean;
 }
 
-const FORMATS = ['npy', 'csv', 'png', 'h5', 'vti'] as const;
+const FORMATS: readonly string[] = FIELD_SET_FORMATS;
 const DEFAULTS = { windowPx: 32, passes: 2, formats: ['npy', 'csv', 'png'] };
 
 /** The CLI entry of the bin shim, used in emitted job scripts. */
@@ -67,8 +68,8 @@ function parseRegion(raw: string | undefined): [number, number, number, number] 
 
 function parseFormats(raw: string | undefined): string[] {
   if (raw === undefined) return DEFAULTS.formats;
-  const list = raw.split(',').map((s) => s.trim().toLowerCase()).filter(Boolean);
-  for (const f of list) if (!(FORMATS as readonly string[]).includes(f)) throw invalidParameter('--format', `a comma list of ${FORMATS.join(', ')}`, raw);
+  const list = raw.split(',').map((s) => s.trim().toLowerCase()).filter(Boolean).map((s) => (s === 'hdf5' ? 'h5' : s));
+  for (const f of list) if (!FORMATS.includes(f)) throw invalidParameter('--format', `a comma list of ${FORMATS.join(', ')}`, raw);
   if (!list.includes('npy')) list.unshift('npy'); // the statistics read the .npy results
   return [...new Set(list)];
 }
