@@ -5,6 +5,8 @@
  * Internal to the correlate stage.
  */
 import { prefilterCols, prefilterRows, sampleBspline } from './bspline.js';
+import { sampleKeys } from './keysCubic.js';
+import { sampleLanczos4 } from './lanczos.js';
 import { FftWindowCorrelator, type CorrelationOutputs } from './fftCorrelator.js';
 import { axisTaps, type GridAxis } from './predictor.js';
 
@@ -31,6 +33,8 @@ export interface PrefilterTask {
 
 export interface DeformTask {
   op: 'deform';
+  /** Image interpolator: Lanczos-4 on the images, or cubic B-spline on the prefiltered coefficients. */
+  interpolation: 'lanczos4' | 'bspline3' | 'keys';
   /** Predictor interpolated along x for every grid row (rows × width), px. */
   predX: Float32Array;
   predY: Float32Array;
@@ -121,11 +125,13 @@ export function runChunk(img: EngineImages, task: EngineTask, k: number): void {
 /**
  * Symmetric window deformation of rows y0..y1−1: with the predictor p(x, y) interpolated to the pixel,
  * the deformed reference is ref(x − p/2) and the deformed measurement meas(x + p/2), both sampled from
- * their cubic B-splines (Scarano 2002, Meas. Sci. Technol. 13:R1, central difference image correction).
+ * a high-order interpolator (Scarano 2002, Meas. Sci. Technol. 13:R1, central difference image correction).
  */
 function deformRows(img: EngineImages, t: DeformTask, y0: number, y1: number): void {
-  const { width, height, coefRef, coefMeas, defRef, defMeas, mask } = img;
+  const { width, height, ref, meas, coefRef, coefMeas, defRef, defMeas, mask } = img;
   const { predX, predY } = t;
+  const lanczos = t.interpolation === 'lanczos4';
+  const keys = t.interpolation === 'keys';
   for (let y = y0; y < y1; y++) {
     axisTaps(t.ay, y, tapIdx, tapW, 0, tapTmp);
     const r0 = tapIdx[0]! * width;
@@ -145,8 +151,16 @@ function deformRows(img: EngineImages, t: DeformTask, y0: number, y1: number): v
       }
       const hx = 0.5 * (w0 * predX[r0 + x]! + w1 * predX[r1 + x]! + w2 * predX[r2 + x]! + w3 * predX[r3 + x]!);
       const hy = 0.5 * (w0 * predY[r0 + x]! + w1 * predY[r1 + x]! + w2 * predY[r2 + x]! + w3 * predY[r3 + x]!);
-      defRef[k] = sampleBspline(coefRef, width, height, x - hx, y - hy);
-      defMeas[k] = sampleBspline(coefMeas, width, height, x + hx, y + hy);
+      if (lanczos) {
+        defRef[k] = sampleLanczos4(ref, width, height, x - hx, y - hy);
+        defMeas[k] = sampleLanczos4(meas, width, height, x + hx, y + hy);
+      } else if (keys) {
+        defRef[k] = sampleKeys(ref, width, height, x - hx, y - hy);
+        defMeas[k] = sampleKeys(meas, width, height, x + hx, y + hy);
+      } else {
+        defRef[k] = sampleBspline(coefRef, width, height, x - hx, y - hy);
+        defMeas[k] = sampleBspline(coefMeas, width, height, x + hx, y + hy);
+      }
     }
   }
 }

@@ -8,8 +8,8 @@
  *  2. … passes: windows of W px every s px on the symmetrically deformed images (Scarano 2002): the
  *     previous pass's field, median-tested and replaced, is interpolated to every pixel (Keys cubic
  *     convolution over the grid), the reference is resampled at x − p/2 and the measurement at
- *     x + p/2 (cubic B-spline with prefilter), and the correlation measures the residual, which is
- *     added to the predictor at the window centre.
+ *     x + p/2 (Lanczos-4 in the last pass, Keys cubic in earlier ones), and the correlation measures
+ *     the residual, which is added to the predictor at the window centre.
  * With passes = 2 both passes use W (the second deformed); passes = 1 is a single plain pass.
  * Every pass ends with the normalized median test and replacement (Westerweel & Scarano 2005).
  *
@@ -32,6 +32,7 @@ export interface ScheduleOptions {
   passes?: number;
   medianThreshold?: number;
   medianEpsilonPx?: number;
+  interpolation?: 'lanczos4' | 'bspline3';
   /** Image size, when known (limits the coarse window). */
   width?: number;
   height?: number;
@@ -64,7 +65,9 @@ export function describeSchedule(o: ScheduleOptions = {}): string {
   const lines = plan.map((p, i) => {
     const head = `pass ${i + 1}: ${p.windowPx} px windows every ${p.stepPx} px`;
     return p.deform
-      ? `${head}, images deformed symmetrically by the pass-${i} field (reference at x − d/2, measurement at x + d/2; cubic B-spline resampling, field interpolated to pixels by Keys cubic convolution); the correlation measures the residual`
+      ? `${head}, images deformed symmetrically by the pass-${i} field (reference at x − d/2, measurement at x + d/2; ${
+          i === plan.length - 1 ? ((o.interpolation ?? 'lanczos4') === 'lanczos4' ? 'Lanczos-4' : 'cubic B-spline') : 'Keys cubic'
+        } resampling, field interpolated to pixels by Keys cubic convolution); the correlation measures the residual`
       : `${head}, plain FFT cross-correlation of the recorded images`;
   });
   lines.push(

@@ -1,0 +1,53 @@
+/**
+ * Keys cubic convolution image interpolation (a = −½, 4×4 taps, no prefilter): the cheap interpolator
+ * of intermediate deformation passes, whose bias the final pass (Lanczos-4) corrects.
+ *
+ * Reference: R. G. Keys, "Cubic convolution interpolation for digital image processing",
+ * IEEE Trans. Acoustics, Speech, and Signal Processing 29(6):1153–1160 (1981).
+ */
+function clampIndex(i: number, n: number): number {
+  return i < 0 ? 0 : i >= n ? n - 1 : i;
+}
+
+/** Keys cubic value of `img` at (x, y); NaN outside [−½, width − ½] × [−½, height − ½]; edge pixels repeat. */
+export function sampleKeys(img: Float32Array, width: number, height: number, x: number, y: number): number {
+  if (!(x >= -0.5 && x <= width - 0.5 && y >= -0.5 && y <= height - 0.5)) return NaN;
+  const ix = Math.floor(x);
+  const iy = Math.floor(y);
+  const t = x - ix;
+  const u = y - iy;
+  const t2 = t * t;
+  const t3 = t2 * t;
+  const u2 = u * u;
+  const u3 = u2 * u;
+  const a0 = 0.5 * (-t3 + 2 * t2 - t);
+  const a1 = 0.5 * (3 * t3 - 5 * t2 + 2);
+  const a2 = 0.5 * (-3 * t3 + 4 * t2 + t);
+  const a3 = 0.5 * (t3 - t2);
+  const b0 = 0.5 * (-u3 + 2 * u2 - u);
+  const b1 = 0.5 * (3 * u3 - 5 * u2 + 2);
+  const b2 = 0.5 * (-3 * u3 + 4 * u2 + u);
+  const b3 = 0.5 * (u3 - u2);
+  if (ix >= 1 && ix + 2 < width && iy >= 1 && iy + 2 < height) {
+    let k = ix - 1 + (iy - 1) * width;
+    let s = b0 * (a0 * img[k]! + a1 * img[k + 1]! + a2 * img[k + 2]! + a3 * img[k + 3]!);
+    k += width;
+    s += b1 * (a0 * img[k]! + a1 * img[k + 1]! + a2 * img[k + 2]! + a3 * img[k + 3]!);
+    k += width;
+    s += b2 * (a0 * img[k]! + a1 * img[k + 1]! + a2 * img[k + 2]! + a3 * img[k + 3]!);
+    k += width;
+    s += b3 * (a0 * img[k]! + a1 * img[k + 1]! + a2 * img[k + 2]! + a3 * img[k + 3]!);
+    return s;
+  }
+  const x0 = clampIndex(ix - 1, width);
+  const x1 = clampIndex(ix, width);
+  const x2 = clampIndex(ix + 1, width);
+  const x3 = clampIndex(ix + 2, width);
+  let s = 0;
+  for (let j = 0; j < 4; j++) {
+    const row = clampIndex(iy - 1 + j, height) * width;
+    const b = j === 0 ? b0 : j === 1 ? b1 : j === 2 ? b2 : b3;
+    s += b * (a0 * img[row + x0]! + a1 * img[row + x1]! + a2 * img[row + x2]! + a3 * img[row + x3]!);
+  }
+  return s;
+}

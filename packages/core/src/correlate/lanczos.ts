@@ -1,0 +1,78 @@
+/**
+ * Lanczos-4 image interpolation (8 × 8 taps) through a precomputed weight table.
+ *
+ * Kernel L(x) = sinc(x)·sinc(x/4) for |x| < 4 (sinc(x) = sin(πx)/(πx)); the 8 weights of each
+ * fractional position are normalised to sum 1 (so a constant image stays constant) and tabulated at
+ * 1/4096 px (position error ≤ 1.2·10⁻⁴ px). Chosen over cubic B-spline and Lanczos-3 by measurement
+ * (bench/cases/displacement.ts notes): on 2.5–2.8 px dots, symmetric deformation by ±d/2 left a bias of
+ * about 0.012–0.016 px with cubic B-splines, 0.005–0.007 px with Lanczos-3, ≤ 0.0035 px with Lanczos-4.
+ *
+ * Reference: C. E. Duchon, "Lanczos filtering in one and two dimensions", Journal of Applied
+ * Meteorology 18:1016–1022 (1979); K. Turkowski, "Filters for common resampling tasks", Graphics Gems
+ * (1990).
+ */
+const STEPS = 4096;
+const TAPS = 8;
+
+function kernel(x: number): number {
+  if (x === 0) return 1;
+  if (Math.abs(x) >= 4) return 0;
+  const px = Math.PI * x;
+  return (4 * Math.sin(px) * Math.sin(px / 4)) / (px * px);
+}
+
+/** Normalised weights, row q for fractional position q/STEPS: taps at offsets −3 … +4. */
+export const LANCZOS4_TABLE: Float64Array = (() => {
+  const t = new Float64Array((STEPS + 1) * TAPS);
+  for (let q = 0; q <= STEPS; q++) {
+    const f = q / STEPS;
+    let s = 0;
+    for (let j = 0; j < TAPS; j++) s += t[q * TAPS + j] = kernel(f - (j - 3));
+    for (let j = 0; j < TAPS; j++) t[q * TAPS + j]! /= s;
+  }
+  return t;
+})();
+
+function clampIndex(i: number, n: number): number {
+  return i < 0 ? 0 : i >= n ? n - 1 : i;
+}
+
+/**
+ * Lanczos-4 value of image `img` (width × height) at (x, y); NaN outside [−½, width − ½] × [−½, height − ½].
+ * Taps beyond the border repeat the edge pixel.
+ */
+export function sampleLanczos4(img: Float32Array, width: number, height: number, x: number, y: number): number {
+  if (!(x >= -0.5 && x <= width - 0.5 && y >= -0.5 && y <= height - 0.5)) return NaN;
+  const T = LANCZOS4_TABLE;
+  const ix = Math.floor(x);
+  const iy = Math.floor(y);
+  const qx = ((x - ix) * STEPS + 0.5) | 0;
+  const qy = ((y - iy) * STEPS + 0.5) | 0;
+  const bx = qx * TAPS;
+  const by = qy * TAPS;
+  const w0 = T[bx]!;
+  const w1 = T[bx + 1]!;
+  const w2 = T[bx + 2]!;
+  const w3 = T[bx + 3]!;
+  const w4 = T[bx + 4]!;
+  const w5 = T[bx + 5]!;
+  const w6 = T[bx + 6]!;
+  const w7 = T[bx + 7]!;
+  let s = 0;
+  if (ix >= 3 && ix + 4 < width && iy >= 3 && iy + 4 < height) {
+    let k = ix - 3 + (iy - 3) * width;
+    for (let j = 0; j < TAPS; j++, k += width) {
+      s +=
+        T[by + j]! *
+        (w0 * img[k]! + w1 * img[k + 1]! + w2 * img[k + 2]! + w3 * img[k + 3]! + w4 * img[k + 4]! + w5 * img[k + 5]! + w6 * img[k + 6]! + w7 * img[k + 7]!);
+    }
+    return s;
+  }
+  for (let j = 0; j < TAPS; j++) {
+    const row = clampIndex(iy - 3 + j, height) * width;
+    let r = 0;
+    for (let i = 0; i < TAPS; i++) r += T[bx + i]! * img[row + clampIndex(ix - 3 + i, width)]!;
+    s += T[by + j]! * r;
+  }
+  return s;
+}
