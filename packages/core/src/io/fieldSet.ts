@@ -61,6 +61,12 @@ export interface FieldSetVector {
   readonly x: string;
   /** Name of the field holding the y component. */
   readonly y: string;
+  /**
+   * Frame of the y component: 'image' (+y down, the default; e.g. displacement) or 'y-up'
+   * (+y up, the physical output frame; e.g. deflection in a density result). Writers convert
+   * once where a format needs a fixed frame (VTK: y up; figures: as seen in the image).
+   */
+  readonly frame?: 'image' | 'y-up';
 }
 
 /** A field of byte codes with names (e.g. vector status). */

@@ -13,3 +13,5 @@ export type { ColormapKind } from './colormaps.js';
 export { niceTicks, niceStep, formatTick } from './niceTicks.js';
 export { renderFieldFigure, renderRgbFigure, figureRange } from './renderFieldFigure.js';
 export type { ContourLevel, Figure, FieldFigureOptions, FigureFrameOptions, FigureVectors, RgbFigureOptions, RgbImage } from './renderFieldFigure.js';
+export { displacementFieldSet, densityFieldSet } from './resultFieldSets.js';
+export type { ResultSetOptions } from './resultFieldSets.js';

@@ -3,7 +3,7 @@
  *
  * Files (in `dir`, all starting with `baseName`):
  * - npy: `<base>_<field>.npy` float32 (rows, cols); `<base>_<vector>.npy` float32 (rows, cols, 2)
- *   with [..., 0] = x and [..., 1] = y component (image frame); `<base>_<category>.npy` int32 codes;
+ *   with [..., 0] = x and [..., 1] = y component (in the vector's own frame, see FieldSetVector); `<base>_<category>.npy` int32 codes;
  *   `<base>_x_px.npy`, `<base>_y_px.npy` (and `_x_m`, `_y_m`) float64 1-D;
  * - csv `<base>.csv`, h5 `<base>.h5`, vti `<base>.vti`, mat `<base>.mat` (one file each);
  * - png/svg: `<base>_<field>.png|svg`, one figure per field (fields with `figure: false` skipped),
@@ -15,6 +15,7 @@ import { existsSync } from 'node:fs';
 import { mkdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { inputError, invalidParameter } from '../util/errors.js';
+import type { Field } from '../util/field.js';
 import { defaultColormap, validateFieldSet, type FieldSet } from './fieldSet.js';
 import { renderFieldFigure, type FigureVectors } from './renderFieldFigure.js';
 import { fieldSetToCsv } from './writeCsv.js';
@@ -22,6 +23,10 @@ import { writeHdf5 } from './writeHdf5.js';
 import { fieldSetToMat } from './writeMat.js';
 import { fieldToNpy, vectorToNpy } from './writeNpy.js';
 import { fieldSetToVti } from './writeVti.js';
+
+function negate(f: Field): Field {
+  return { width: f.width, height: f.height, data: Float32Array.from(f.data, (v) => -v) };
+}
 
 /** Output format tokens. */
 export const FIELD_SET_FORMATS = ['npy', 'h5', 'vti', 'mat', 'csv', 'png', 'svg'] as const;
@@ -99,7 +104,12 @@ export async function writeFieldSet(
   const figure = (fi: (typeof set.fields)[number]) => {
     const byName = (n: string) => set.fields.find((f) => f.name === n)!.data;
     const vectors: FigureVectors | undefined = vecSpec
-      ? { u: byName(vecSpec.x), v: byName(vecSpec.y), units: set.fields.find((f) => f.name === vecSpec.x)!.units, ...(fo.every ? { every: fo.every } : {}) }
+      ? {
+          u: byName(vecSpec.x),
+          v: vecSpec.frame === 'y-up' ? negate(byName(vecSpec.y)) : byName(vecSpec.y),
+          units: set.fields.find((f) => f.name === vecSpec.x)!.units,
+          ...(fo.every ? { every: fo.every } : {}),
+        }
       : undefined;
     return renderFieldFigure(fi.data, {
       xMm: metres ? Float64Array.from(g.xM!, (v) => v * 1000) : g.xPx,

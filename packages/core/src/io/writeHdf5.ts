@@ -9,7 +9,7 @@
  * /fields/<name>         float32 [rows, cols] (row-major, row 0 = top image row), gzip level 4;
  *                        attrs units, description; NaN = no data
  * /categories/<name>     uint8 [rows, cols]; attrs description, names (string array: names[code])
- * /fields attrs          vector_<name> = "<x field>,<y field>" for each vector
+ * /fields attrs          vector_<name> = "<x field>,<y field>,<frame>" (frame image = y down, y-up)
  * ```
  */
 import { existsSync } from 'node:fs';
@@ -50,7 +50,7 @@ export async function writeHdf5(path: string, set: FieldSet): Promise<void> {
       ds.create_attribute('units', fld.units);
       ds.create_attribute('description', fld.description);
     }
-    for (const v of set.vectors ?? []) fg.create_attribute(`vector_${v.name}`, `${v.x},${v.y}`);
+    for (const v of set.vectors ?? []) fg.create_attribute(`vector_${v.name}`, `${v.x},${v.y},${v.frame ?? 'image'}`);
     if (set.categories?.length) {
       const cg = f.create_group('categories');
       for (const c of set.categories) {

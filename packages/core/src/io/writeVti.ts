@@ -12,7 +12,8 @@
  * points are placed in pixels at (x_px, −y_px). Point arrays are named `<name>_<unit slug>`
  * (e.g. `rho_kgm3`, `dx_px`; see {@link columnName}); scalar fields are written as they are (so
  * `dy_px` stays "+y down in the image"), while each vector of the set is written as a 3-component
- * array in the VTK frame (x, −y_image, 0) so that glyphs point the way the image shows.
+ * array in the VTK frame (x, y up, 0): an image-frame y component is negated, a 'y-up' one kept,
+ * so that glyphs point the way the image shows.
  */
 import { writeFile } from 'node:fs/promises';
 import { invalidParameter } from '../util/errors.js';
@@ -61,7 +62,7 @@ export function fieldSetToVti(set: FieldSet): string {
   const reorder = (src: ArrayLike<number>, out: Float32Array | Uint8Array, comps = 1, comp = 0, sign = 1) => {
     for (let j = 0; j < rows; j++) {
       const r = srcRow(j);
-      for (let c = 0; c < cols; c++) out[(c + j * cols) * comps + comp] = sign * src[c + r * cols]!;
+      for (let c = 0; c < cols; c++) out[(c + j * cols) * comps + comp] = sign * src[c + r * cols]! + 0; // + 0: no -0
     }
   };
   const arrays: string[] = [];
@@ -77,7 +78,7 @@ export function fieldSetToVti(set: FieldSet): string {
     const fy = set.fields.find((f) => f.name === v.y)!;
     const out = new Float32Array(3 * n);
     reorder(fx.data.data, out, 3, 0, 1);
-    reorder(fy.data.data, out, 3, 1, -1);
+    reorder(fy.data.data, out, 3, 1, v.frame === 'y-up' ? 1 : -1);
     add('Float32', columnName(v.name, fx.units), 3, new Uint8Array(out.buffer));
   }
   for (const c of set.categories ?? []) {
