@@ -161,6 +161,8 @@ function deformRows(img: EngineImages, t: DeformTask, y0: number, y1: number): v
         defRef[k] = sampleBspline(coefRef, width, height, x - hx, y - hy);
         defMeas[k] = sampleBspline(coefMeas, width, height, x + hx, y + hy);
       }
+      // a pixel missing in either image is dropped from both, so both windows keep the same pixel set
+      if (!(defRef[k]! === defRef[k]!) || !(defMeas[k]! === defMeas[k]!)) defRef[k] = defMeas[k] = NaN;
     }
   }
 }

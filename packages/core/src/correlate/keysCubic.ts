@@ -9,9 +9,15 @@ function clampIndex(i: number, n: number): number {
   return i < 0 ? 0 : i >= n ? n - 1 : i;
 }
 
-/** Keys cubic value of `img` at (x, y); NaN outside [−½, width − ½] × [−½, height − ½]; edge pixels repeat. */
+/**
+ * Keys cubic value of `img` at (x, y); NaN where the kernel would reach beyond the image (x < 1 or
+ * x > width − 2, likewise y), except at whole-pixel positions (the pixel itself).
+ */
 export function sampleKeys(img: Float32Array, width: number, height: number, x: number, y: number): number {
-  if (!(x >= -0.5 && x <= width - 0.5 && y >= -0.5 && y <= height - 0.5)) return NaN;
+  if (!(x >= 1 && x <= width - 2 && y >= 1 && y <= height - 2)) {
+    if (x === Math.round(x) && y === Math.round(y) && x >= 0 && x < width && y >= 0 && y < height) return img[x + y * width]!;
+    return NaN;
+  }
   const ix = Math.floor(x);
   const iy = Math.floor(y);
   const t = x - ix;

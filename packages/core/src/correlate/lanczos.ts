@@ -38,11 +38,15 @@ function clampIndex(i: number, n: number): number {
 }
 
 /**
- * Lanczos-4 value of image `img` (width × height) at (x, y); NaN outside [−½, width − ½] × [−½, height − ½].
- * Taps beyond the border repeat the edge pixel.
+ * Lanczos-4 value of image `img` (width × height) at (x, y). NaN where the kernel would reach beyond
+ * the image (x < 3 or x > width − 4, likewise y), except at whole-pixel positions, which return the
+ * pixel itself: any made-up border extension (repeat, mirror) would bias the windows at the edge.
  */
 export function sampleLanczos4(img: Float32Array, width: number, height: number, x: number, y: number): number {
-  if (!(x >= -0.5 && x <= width - 0.5 && y >= -0.5 && y <= height - 0.5)) return NaN;
+  if (!(x >= 3 && x <= width - 4 && y >= 3 && y <= height - 4)) {
+    if (x === Math.round(x) && y === Math.round(y) && x >= 0 && x < width && y >= 0 && y < height) return img[x + y * width]!;
+    return NaN;
+  }
   const T = LANCZOS4_TABLE;
   const ix = Math.floor(x);
   const iy = Math.floor(y);

@@ -5,6 +5,10 @@
  *   r = |U₀ − Uₘ| / (median |Uᵢ − Uₘ| + ε),   Uₘ = median Uᵢ,
  * and the vector is flagged when r > threshold for either component (the 2-D vector fails when one of
  * its components does). Vectors with fewer than 2 finite neighbours are not tested.
+ * On the grid's edges, where neighbours are missing, each missing neighbour U(m) is replaced by the
+ * linear extrapolation 3·U(−m) − 2·U(−2m) from the opposite side (when those exist), so that a linear
+ * field is never flagged there either (a one-sided neighbourhood biases the median); the vector under
+ * test never enters its own reference values.
  * Defaults from the paper: threshold 2, ε = 0.1 px.
  *
  * Reference: J. Westerweel & F. Scarano, "Universal outlier detection for PIV data", Experiments in
@@ -25,19 +29,23 @@ function median(v: Float64Array, n: number): number {
   return n & 1 ? v[n >> 1]! : 0.5 * (v[(n >> 1) - 1]! + v[n >> 1]!);
 }
 
-function residual(c: Float32Array, cols: number, rows: number, col: number, row: number, skip: Uint8Array | null, eps: number): number {
+function at(c: Float32Array, cols: number, rows: number, q: number, r: number): number {
+  return q < 0 || q >= cols || r < 0 || r >= rows ? NaN : c[q + r * cols]!;
+}
+
+function residual(c: Float32Array, cols: number, rows: number, col: number, row: number, eps: number): number {
   let n = 0;
-  for (let dr = -1; dr <= 1; dr++) {
-    const r = row + dr;
-    if (r < 0 || r >= rows) continue;
+  for (let dr = -1; dr <= 1; dr++)
     for (let dc = -1; dc <= 1; dc++) {
+      if (dr === 0 && dc === 0) continue;
       const q = col + dc;
-      if ((dr === 0 && dc === 0) || q < 0 || q >= cols) continue;
-      const k = q + r * cols;
-      const v = c[k]!;
-      if (v === v && !(skip && skip[k])) nb[n++] = v;
+      const r = row + dr;
+      let v: number;
+      if (q >= 0 && q < cols && r >= 0 && r < rows) v = c[q + r * cols]!;
+      // beyond the grid edge: linear extrapolation 3·U(−m) − 2·U(−2m) from the opposite side
+      else v = 3 * at(c, cols, rows, col - dc, row - dr) - 2 * at(c, cols, rows, col - 2 * dc, row - 2 * dr);
+      if (v === v) nb[n++] = v;
     }
-  }
   if (n < 2) return NaN;
   const um = median(nb, n);
   for (let i = 0; i < n; i++) res[i] = Math.abs(nb[i]! - um);
@@ -62,8 +70,8 @@ export function normalizedMedianTest(dx: Field, dy: Field, threshold: number, ep
       const k = c + r * cols;
       out[k] = 0;
       if (!(dx.data[k]! === dx.data[k]!) || !(dy.data[k]! === dy.data[k]!)) continue;
-      const rx = residual(dx.data, cols, rows, c, r, null, epsilonPx);
-      const ry = residual(dy.data, cols, rows, c, r, null, epsilonPx);
+      const rx = residual(dx.data, cols, rows, c, r, epsilonPx);
+      const ry = residual(dy.data, cols, rows, c, r, epsilonPx);
       if (rx > threshold || ry > threshold) (out[k] = 1), count++;
     }
   return count;

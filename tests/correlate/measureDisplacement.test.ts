@@ -1,0 +1,129 @@
+import { afterAll, describe, expect, it } from 'vitest';
+import { closeWorkers, describeSchedule, measureDisplacement, RhofieldError, synthPair, VectorStatus, type Field } from '@rhofield/core';
+
+afterAll(() => closeWorkers());
+
+/** Ground truth: the displacement given to the project's own dot renderer (synthPair). */
+function rmsError(r: Awaited<ReturnType<typeof measureDisplacement>>, dx: number, dy: number): number {
+  let s = 0;
+  let n = 0;
+  for (let k = 0; k < r.dxPx.data.length; k++) {
+    if (r.status[k] === VectorStatus.masked) continue;
+    s += (r.dxPx.data[k]! - dx) ** 2 + (r.dyPx.data[k]! - dy) ** 2;
+    n += 2;
+  }
+  return Math.sqrt(s / n);
+}
+
+describe('measureDisplacement(ref, meas, options)', () => {
+  it('256×256, uniform (1.37, −0.61) px: RMS error < 0.05 px, in-process and with worker threads alike', async () => {
+    const { ref, meas } = synthPair({ width: 256, height: 256, diameterPx: 2.8, seed: 21, displacement: { kind: 'uniform', dx: 1.37, dy: -0.61 } });
+    const one = await measureDisplacement(ref, meas, { threads: 1 });
+    const two = await measureDisplacement(ref, meas, { threads: 2 });
+    expect(rmsError(one, 1.37, -0.61)).toBeLessThan(0.05);
+    expect(Array.from(two.dxPx.data)).toEqual(Array.from(one.dxPx.data));
+    expect(Array.from(two.dyPx.data)).toEqual(Array.from(one.dyPx.data));
+    expect(one.counts.valid + one.counts.replaced).toBe(one.grid.cols * one.grid.rows);
+    for (const c of one.correlation.data) expect(c > 0.5 && c <= 1).toBe(true);
+    for (const p of one.peakRatio.data) expect(p).toBeGreaterThan(1);
+  });
+
+  it('sign convention: dots moved right and down give positive dx and dy (measured minus reference)', async () => {
+    const { ref, meas } = synthPair({ width: 128, height: 128, diameterPx: 3, seed: 2, displacement: { kind: 'uniform', dx: 2.2, dy: 1.1 } });
+    const r = await measureDisplacement(ref, meas, { threads: 1, windowPx: 32 });
+    const i = r.dxPx.data.length >> 1;
+    expect(r.dxPx.data[i]).toBeCloseTo(2.2, 1);
+    expect(r.dyPx.data[i]).toBeCloseTo(1.1, 1);
+  });
+
+  it('windows cut from a larger image shifted by whole pixels (not circularly) recover the shift', async () => {
+    const big = synthPair({ width: 300, height: 300, diameterPx: 2.8, seed: 8 }).ref;
+    const crop = (f: Field, x0: number, y0: number): Field => {
+      const data = new Float32Array(256 * 256);
+      for (let y = 0; y < 256; y++) for (let x = 0; x < 256; x++) data[x + y * 256] = f.data[x + x0 + (y + y0) * f.width]!;
+      return { width: 256, height: 256, data };
+    };
+    for (const [sx, sy] of [
+      [3, 0],
+      [0, -2],
+      [5, 4],
+    ] as const) {
+      const ref = crop(big, 20, 20);
+      const meas = crop(big, 20 - sx, 20 - sy); // meas(x) = ref(x − s): content moved by +s
+      const single = await measureDisplacement(ref, meas, { threads: 1, passes: 1 });
+      const multi = await measureDisplacement(ref, meas, { threads: 1 });
+      for (let k = 0; k < single.dxPx.data.length; k++) {
+        expect(Math.round(single.dxPx.data[k]!) === sx).toBe(true);
+        expect(Math.round(single.dyPx.data[k]!) === sy).toBe(true);
+      }
+      // multi-pass: the predictor is not exactly whole, so a small interpolation residual remains
+      expect(rmsError(multi, sx, sy)).toBeLessThan(5e-3);
+    }
+  });
+
+  it('identical images give zero displacement (to round-off)', async () => {
+    const { ref } = synthPair({ width: 128, height: 128, diameterPx: 2.8, seed: 4 });
+    const r = await measureDisplacement(ref, ref, { threads: 1 });
+    for (const v of r.dxPx.data) expect(Math.abs(v)).toBeLessThan(1e-9);
+    for (const v of r.dyPx.data) expect(Math.abs(v)).toBeLessThan(1e-9);
+  });
+
+  it('masked windows get status masked and NaN; a flow-free region removes camera shake', async () => {
+    const { ref, meas } = synthPair({ width: 192, height: 192, diameterPx: 2.8, seed: 6, displacement: { kind: 'uniform', dx: 1.3, dy: 0.4 } });
+    const mask = { width: 192, height: 192, data: new Uint8Array(192 * 192).fill(1) };
+    for (let y = 60; y < 140; y++) for (let x = 60; x < 140; x++) mask.data[x + y * 192] = 0;
+    const r = await measureDisplacement(ref, meas, { threads: 1, mask, flowFreeRegionPx: [0, 0, 191, 40] });
+    expect(r.counts.masked).toBeGreaterThan(0);
+    for (let row = 0; row < r.grid.rows; row++)
+      for (let col = 0; col < r.grid.cols; col++) {
+        const k = col + row * r.grid.cols;
+        const x = r.grid.xPx[col]!;
+        const y = r.grid.yPx[row]!;
+        if (x > 62 && x < 138 && y > 62 && y < 138) {
+          expect(r.status[k]).toBe(VectorStatus.masked);
+          expect(r.dxPx.data[k]).toBeNaN();
+        }
+        if (r.status[k] !== VectorStatus.masked) {
+          expect(Math.abs(r.dxPx.data[k]!)).toBeLessThan(0.05);
+          expect(Math.abs(r.dyPx.data[k]!)).toBeLessThan(0.05);
+        }
+      }
+    expect(r.shakePx!.dx).toBeCloseTo(1.3, 1);
+    expect(r.shakePx!.dy).toBeCloseTo(0.4, 1);
+  });
+
+  describe('rejects bad input with a RhofieldError naming the option', () => {
+    const { ref, meas } = synthPair({ width: 64, height: 64, diameterPx: 3, seed: 1 });
+    const cases: [string, () => Promise<unknown>, RegExp][] = [
+      ['size mismatch', () => measureDisplacement(ref, { width: 64, height: 32, data: new Float32Array(64 * 32) }), /64×64.*64×32/],
+      ['window not a power of two', () => measureDisplacement(ref, meas, { windowPx: 24 }), /windowPx/],
+      ['window too small', () => measureDisplacement(ref, meas, { windowPx: 8 }), /windowPx/],
+      ['window larger than the image', () => measureDisplacement(ref, meas, { windowPx: 128 }), /64×64.*windowPx/],
+      ['step 0', () => measureDisplacement(ref, meas, { stepPx: 0 }), /stepPx/],
+      ['step not integer', () => measureDisplacement(ref, meas, { stepPx: 1.5 }), /stepPx/],
+      ['passes 0', () => measureDisplacement(ref, meas, { passes: 0 }), /passes/],
+      ['threads 0', () => measureDisplacement(ref, meas, { threads: 0 }), /threads/],
+      ['median threshold', () => measureDisplacement(ref, meas, { medianThreshold: -1 }), /medianThreshold/],
+      ['mask size', () => measureDisplacement(ref, meas, { mask: { width: 32, height: 32, data: new Uint8Array(1024) } }), /mask.*32×32/],
+      ['flow-free region', () => measureDisplacement(ref, meas, { flowFreeRegionPx: [10, 10, 5, 5] }), /flowFreeRegionPx/],
+      ['interpolation', () => measureDisplacement(ref, meas, { interpolation: 'linear' as 'lanczos4' }), /interpolation/],
+      [
+        'uniform image',
+        () => measureDisplacement({ width: 64, height: 64, data: new Float32Array(4096).fill(100) }, meas),
+        /reference image has no texture \(standard deviation 0\.00\); check the file\/exposure/,
+      ],
+    ];
+    for (const [what, call, message] of cases)
+      it(what, async () => {
+        await expect(call()).rejects.toThrow(RhofieldError);
+        await expect(call()).rejects.toThrow(message);
+      });
+  });
+
+  it('describeSchedule lists every pass and the median test', () => {
+    const text = describeSchedule({ windowPx: 32, stepPx: 16, passes: 3 });
+    expect(text).toMatch(/pass 1: 64 px windows every 64 px/);
+    expect(text).toMatch(/pass 3: 32 px windows every 16 px/);
+    expect(text).toMatch(/normalized median test/);
+  });
+});
