@@ -36,7 +36,7 @@ describe('displacementFieldSet(d)', () => {
   };
   it('has dx, dy, peak_ratio, correlation, status words and an image-frame vector (VTK y = −dy)', () => {
     const set = displacementFieldSet(d);
-    expect(fieldSetToCsv(set).split('\n')[0]).toBe('x_px,y_px,dx_px,dy_px,peak_ratio,correlation,status');
+    expect(fieldSetToCsv(set).split('\n')[0]).toBe('x_px,y_px,dx_px,dy_px,magnitude_px,peak_ratio,correlation,status');
     expect(fieldSetToCsv(set).split('\n')[3]).toMatch(/,failed$/);
     const v = vtiVector(fieldSetToVti(set), 'displacement_px');
     for (let i = 0; i < C * R; i++) expect(v[3 * i + 1]).toBe(-d.dyPx.data[i]! + 0);

@@ -1,5 +1,6 @@
 /** The command registry: each entry adds one subcommand to the program. */
 import type { Command } from 'commander';
+import { register as displacement } from './displacement.js';
 import { register as plan } from './plan.js';
 import { register as pattern } from './pattern.js';
 import { register as check } from './check.js';
@@ -7,6 +8,7 @@ import { register as batch } from './batch.js';
 import { register as merge } from './merge.js';
 
 export const commands: Array<(program: Command) => void> = [
+  displacement,
   plan,
   pattern,
   check,

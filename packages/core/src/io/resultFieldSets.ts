@@ -27,6 +27,7 @@ export function displacementFieldSet(d: DisplacementField, options: ResultSetOpt
     fields: [
       { name: 'dx', units: 'px', description: 'displacement along +x (right), measured minus reference', quantity: 'displacement dx', colormap: 'diverging', data: d.dxPx },
       { name: 'dy', units: 'px', description: 'displacement along +y (down, image rows), measured minus reference', quantity: 'displacement dy (down)', colormap: 'diverging', data: d.dyPx },
+      { name: 'magnitude', units: 'px', description: 'displacement magnitude sqrt(dx² + dy²)', quantity: 'displacement |d|', colormap: 'sequential', data: magnitude(d) },
       { name: 'peak_ratio', units: '1', description: 'primary / secondary correlation peak height', quantity: 'peak ratio', colormap: 'sequential', data: d.peakRatio },
       { name: 'correlation', units: '1', description: 'normalised correlation coefficient at the peak', quantity: 'correlation', colormap: 'sequential', data: d.correlation },
     ],
@@ -75,4 +76,10 @@ export function densityFieldSet(r: DensityResult, grid: { xPx: Float64Array; yPx
     },
     ...(options.settings !== undefined ? { settings: options.settings } : {}),
   };
+}
+
+function magnitude(d: DisplacementField): FieldSetField['data'] {
+  const out = new Float32Array(d.dxPx.data.length);
+  for (let i = 0; i < out.length; i++) out[i] = Math.hypot(d.dxPx.data[i]!, d.dyPx.data[i]!);
+  return { width: d.dxPx.width, height: d.dxPx.height, data: out };
 }

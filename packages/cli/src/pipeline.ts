@@ -1,0 +1,180 @@
+/**
+ * The per-pair pipeline shared by `rhofield displacement`, `rhofield density` and `rhofield batch`:
+ * load both images (and mask), measure the displacement, optionally reconstruct density, write every
+ * requested format into an existing empty folder, and return a JSON-able summary (also written as
+ * result.json). The caller owns atomicity (it passes a staging folder and renames it into place).
+ */
+import { promises as fsp } from 'node:fs';
+import path from 'node:path';
+import {
+  densityFieldSet,
+  displacementFieldSet,
+  fieldToNpy,
+  inputError,
+  loadImage,
+  loadMask,
+  measureDisplacement,
+  parseFormats,
+  pixelMapping,
+  reconstructDensity,
+  writeFieldSet,
+  type FieldSetFormat,
+  type Setup,
+} from '@rhofield/core';
+import { provenance, sha256File } from './common.js';
+
+/** Options of one pair (JSON-able: it crosses to batch workers). */
+export interface PairOptions {
+  windowPx?: number;
+  stepPx?: number;
+  passes?: number;
+  maskPath?: string;
+  flowFreeRegionPx?: [number, number, number, number];
+  /** Parsed setup: present → density is reconstructed too. */
+  setup?: Setup | null;
+  /** Path of the setup file (for provenance). */
+  setupPath?: string;
+  /** Format tokens, default npy,csv,png. */
+  formats?: string;
+  threads?: number;
+  interpolation?: 'lanczos4' | 'bspline3';
+}
+
+export interface PairJob {
+  refPath: string;
+  measPath: string;
+  refPage?: number;
+  measPage?: number;
+  options: PairOptions;
+}
+
+export const DEFAULT_FORMATS = 'npy,csv,png';
+
+/** Process one pair into `outDir` (existing and empty). Returns the summary written to result.json. */
+export async function processPair(job: PairJob, outDir: string): Promise<Record<string, unknown>> {
+  const o = job.options;
+  const formats: FieldSetFormat[] = parseFormats(o.formats ?? DEFAULT_FORMATS);
+  const timings: Record<string, number> = {};
+  const t = async <T>(stage: string, fn: () => Promise<T> | T): Promise<T> => {
+    const t0 = performance.now();
+    try {
+      return await fn();
+    } finally {
+      timings[stage] = +((performance.now() - t0) / 1000).toFixed(4);
+    }
+  };
+
+  const [refImg, measImg] = await t('load', () =>
+    Promise.all([loadImage(job.refPath, job.refPage !== undefined ? { page: job.refPage } : {}), loadImage(job.measPath, job.measPage !== undefined ? { page: job.measPage } : {})]),
+  );
+  if (refImg.width !== measImg.width || refImg.height !== measImg.height) {
+    throw inputError(
+      `images differ in size: reference ${job.refPath} is ${refImg.width}×${refImg.height}, measurement ${job.measPath} is ${measImg.width}×${measImg.height}; use a pair from the same camera and crop`,
+    );
+  }
+  const mask = o.maskPath ? await t('mask', () => loadMask(o.maskPath!, { width: refImg.width, height: refImg.height })) : undefined;
+  const disp = await t('displacement', () =>
+    measureDisplacement(refImg.field, measImg.field, {
+      ...(o.windowPx !== undefined ? { windowPx: o.windowPx } : {}),
+      ...(o.stepPx !== undefined ? { stepPx: o.stepPx } : {}),
+      ...(o.passes !== undefined ? { passes: o.passes } : {}),
+      ...(mask ? { mask } : {}),
+      ...(o.flowFreeRegionPx ? { flowFreeRegionPx: o.flowFreeRegionPx } : {}),
+      ...(o.threads !== undefined ? { threads: o.threads } : {}),
+      ...(o.interpolation ? { interpolation: o.interpolation } : {}),
+    }),
+  );
+
+  const setup = o.setup ?? null;
+  let mapping: ReturnType<typeof pixelMapping> | null = null;
+  let xM: Float64Array | undefined;
+  let yM: Float64Array | undefined;
+  if (setup) {
+    mapping = pixelMapping(
+      { focalLength: setup.camera.focalLength, pixelPitch: setup.camera.pixelPitch, lensToBackground: setup.geometry.lensToBackground, flowToBackground: setup.geometry.flowToBackground },
+      refImg.width,
+      refImg.height,
+      setup.geometry.originPx as [number, number] | undefined,
+    );
+    xM = Float64Array.from(disp.grid.xPx, (x) => (x - mapping!.originPx[0]) * mapping!.pixelSizeM);
+    yM = Float64Array.from(disp.grid.yPx, (y) => -(y - mapping!.originPx[1]) * mapping!.pixelSizeM);
+  }
+
+  const settings = {
+    windowPx: disp.passes[disp.passes.length - 1]?.windowPx ?? o.windowPx,
+    stepPx: disp.passes[disp.passes.length - 1]?.stepPx ?? o.stepPx,
+    passes: disp.passes.map((p) => ({ windowPx: p.windowPx, stepPx: p.stepPx })),
+    mask: o.maskPath ?? null,
+    flowFreeRegionPx: o.flowFreeRegionPx ?? null,
+    interpolation: o.interpolation ?? 'lanczos4',
+    medianTest: { threshold: 2, epsilonPx: 0.1, neighbours: 8 },
+    threads: disp.threads,
+    formats,
+    refPage: job.refPage ?? 0,
+    measPage: job.measPage ?? 0,
+  };
+
+  await t('write_displacement', async () => {
+    const set = displacementFieldSet(disp, { ...(xM ? { xM } : {}), ...(yM ? { yM } : {}), settings });
+    if (formats.includes('npy')) await fsp.writeFile(path.join(outDir, 'displacement.npy'), fieldToNpy([disp.dxPx, disp.dyPx]));
+    await writeFieldSet(outDir, 'displacement', set, formats, { figure: { vectors: 'displacement' } });
+  });
+
+  let density: ReturnType<typeof reconstructDensity> | null = null;
+  if (setup) {
+    density = await t('reconstruct', () => reconstructDensity(disp, setup));
+    await t('write_density', async () => {
+      const set = densityFieldSet(density!, { xPx: disp.grid.xPx, yPx: disp.grid.yPx }, { settings });
+      if (formats.includes('npy')) await fsp.writeFile(path.join(outDir, 'density.npy'), fieldToNpy(density!.rho));
+      await writeFieldSet(outDir, 'density', set, formats, { figure: { vectors: 'deflection' } });
+    });
+  }
+
+  const [refHash, measHash, maskHash, setupHash] = await Promise.all([
+    sha256File(job.refPath),
+    sha256File(job.measPath),
+    o.maskPath ? sha256File(o.maskPath) : Promise.resolve(null),
+    o.setupPath ? sha256File(o.setupPath) : Promise.resolve(null),
+  ]);
+  const magnitudes: number[] = [];
+  for (let i = 0; i < disp.dxPx.data.length; i++) {
+    const m = Math.hypot(disp.dxPx.data[i]!, disp.dyPx.data[i]!);
+    if (Number.isFinite(m)) magnitudes.push(m);
+  }
+  const summary: Record<string, unknown> = {
+    ...provenance(),
+    inputs: {
+      reference: { path: path.resolve(job.refPath), sha256: refHash, width: refImg.width, height: refImg.height, bitDepth: refImg.bitDepth, page: job.refPage ?? 0 },
+      measurement: { path: path.resolve(job.measPath), sha256: measHash, width: measImg.width, height: measImg.height, bitDepth: measImg.bitDepth, page: job.measPage ?? 0 },
+      ...(o.maskPath ? { mask: { path: path.resolve(o.maskPath), sha256: maskHash } } : {}),
+      ...(o.setupPath ? { setup: { path: path.resolve(o.setupPath), sha256: setupHash } } : {}),
+    },
+    settings: { ...settings, ...(setup ? { setup } : {}) },
+    grid: { cols: disp.grid.cols, rows: disp.grid.rows },
+    displacement: {
+      counts: disp.counts,
+      maxMagnitudePx: magnitudes.length ? Math.max(...magnitudes) : null,
+      ...(disp.shakePx ? { shakeRemovedPx: disp.shakePx } : {}),
+      passes: disp.passes.map((p) => ({ windowPx: p.windowPx, stepPx: p.stepPx, outliers: p.outliers, ms: p.ms })),
+    },
+    ...(density
+      ? {
+          density: {
+            flowType: density.flowType,
+            minKgm3: density.summary.min,
+            maxKgm3: density.summary.max,
+            referenceDensityKgm3: density.summary.referenceDensity,
+            reference: density.summary.reference,
+            method: density.summary.method,
+            gladstoneDaleM3kg: density.gladstoneDale,
+            flowPlanePixelSizeM: mapping?.pixelSizeM,
+            notes: density.notes,
+          },
+        }
+      : {}),
+    warnings: [...(density?.warnings ?? [])],
+    timingsSeconds: timings,
+  };
+  await fsp.writeFile(path.join(outDir, 'result.json'), JSON.stringify(summary, null, 2) + '\n');
+  return summary;
+}
