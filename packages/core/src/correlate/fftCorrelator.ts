@@ -198,11 +198,17 @@ export function analysePeak(plane: Float64Array, o: number, n: number, energy: n
   const xp = (px + 1) & mask;
   const ym = (py - 1) & mask;
   const yp = (py + 1) & mask;
-  const sx = gaussianPeak3(plane[2 * (xm + py * n) + o]!, best, plane[2 * (xp + py * n) + o]!);
-  const sy = gaussianPeak3(plane[2 * (px + ym * n) + o]!, best, plane[2 * (px + yp * n) + o]!);
   const half = n >> 1;
-  out.dx[idx] = (px >= half ? px - n : px) + sx;
-  out.dy[idx] = (py >= half ? py - n : py) + sy;
+  const ux = px >= half ? px - n : px;
+  const uy = py >= half ? py - n : py;
+  // undo the loss-of-pairs weighting (1 − |u|/n) of a correlation of windows of equal size before the
+  // fit (Raffel et al., Particle Image Velocimetry, 3rd ed. 2018, §5.4; Westerweel 1997, Meas. Sci.
+  // Technol. 8:1379): otherwise the sub-pixel estimate is biased toward zero by about u/n · s²
+  const gx = (u: number): number => 1 / (1 - Math.abs(u) / n);
+  const sx = gaussianPeak3(plane[2 * (xm + py * n) + o]! * gx(ux - 1), best * gx(ux), plane[2 * (xp + py * n) + o]! * gx(ux + 1));
+  const sy = gaussianPeak3(plane[2 * (px + ym * n) + o]! * gx(uy - 1), best * gx(uy), plane[2 * (px + yp * n) + o]! * gx(uy + 1));
+  out.dx[idx] = ux + sx;
+  out.dy[idx] = uy + sy;
   out.correlation[idx] = best / Math.sqrt(energy);
   // secondary peak
   let second = -Infinity;

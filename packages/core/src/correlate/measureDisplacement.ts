@@ -33,6 +33,15 @@ export interface MeasureDisplacementOptions {
   /** Normalized median test noise level ε, px (default 0.1). */
   medianEpsilonPx?: number;
   /**
+   * Keep vectors flagged by the median test when their correlation peak ratio is at least this
+   * (default Infinity: every flagged vector is replaced, as published). The published test flags
+   * genuine vectors where the field changes by a large fraction of its amplitude from one grid node to
+   * the next (e.g. a 64 px wavelength on a 16 px grid, or a shock); an unambiguous peak there is kept.
+   * On synthetic pairs of unrelated images (pure spurious peaks) the peak ratio stayed below 2.3 in
+   * 1024 windows, while 90 % of genuine 32 px windows with 10 dots exceeded 3 (common practice: 2–3).
+   */
+  medianKeepPeakRatio?: number;
+  /**
    * Flow-free rectangle `[x0, y0, x1, y1]` in image pixels (inclusive corners): the mean displacement of
    * the valid vectors whose centres lie inside is subtracted from every vector (camera shake).
    */
@@ -107,6 +116,7 @@ interface Resolved {
   medianEpsilonPx: number;
   threads: number;
   mask: MaskField | undefined;
+  keepPeakRatio: number;
   interpolation: 'lanczos4' | 'bspline3';
   region: readonly [number, number, number, number] | undefined;
 }
@@ -149,10 +159,13 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions): Resolv
   const sdMeas = texture('measurement', meas);
   if (!(sdMeas > 1e-6 * Math.max(1, Math.abs(meas.data[0]!))))
     throw inputError(`measurement image has no texture (standard deviation ${sdMeas.toPrecision(3)}); check the file/exposure`);
+  const keepPeakRatio = o.medianKeepPeakRatio ?? Infinity;
+  if (typeof keepPeakRatio !== 'number' || !(keepPeakRatio >= 1))
+    throw invalidParameter('medianKeepPeakRatio', 'a number ≥ 1 (or Infinity to replace every flagged vector)', o.medianKeepPeakRatio);
   const interpolation = o.interpolation ?? 'lanczos4';
   if (interpolation !== 'lanczos4' && interpolation !== 'bspline3')
     throw invalidParameter('interpolation', "'lanczos4' or 'bspline3'", o.interpolation);
-  return { windowPx, stepPx, passes, medianThreshold, medianEpsilonPx, threads, mask, interpolation, region };
+  return { windowPx, stepPx, passes, medianThreshold, medianEpsilonPx, threads, mask, keepPeakRatio, interpolation, region };
 }
 
 /** Buffers reused between calls of the same size (first writes to fresh memory are slow). */
@@ -340,7 +353,13 @@ export async function measureDisplacement(ref: Field, meas: Field, options: Meas
     const dxF: Field = { width: grid.cols, height: grid.rows, data: out.dx };
     const dyF: Field = { width: grid.cols, height: grid.rows, data: out.dy };
     const flagged = new Uint8Array(n);
-    const outliers = normalizedMedianTest(dxF, dyF, o.medianThreshold, o.medianEpsilonPx, flagged);
+    let outliers = normalizedMedianTest(dxF, dyF, o.medianThreshold, o.medianEpsilonPx, flagged);
+    if (o.keepPeakRatio < Infinity)
+      for (let k = 0; k < n; k++)
+        if (flagged[k] && out.peakRatio[k]! >= o.keepPeakRatio) {
+          flagged[k] = 0;
+          outliers--;
+        }
     for (let k = 0; k < n; k++) if (active[k] && !(out.dx[k]! === out.dx[k]!)) flagged[k] = 1;
     replaceByNeighbourMedian(dxF, dyF, flagged);
     for (let k = 0; k < n; k++) if (!active[k]) out.dx[k] = out.dy[k] = NaN;

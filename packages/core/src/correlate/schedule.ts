@@ -33,6 +33,7 @@ export interface ScheduleOptions {
   medianThreshold?: number;
   medianEpsilonPx?: number;
   interpolation?: 'lanczos4' | 'bspline3';
+  medianKeepPeakRatio?: number;
   /** Image size, when known (limits the coarse window). */
   width?: number;
   height?: number;
@@ -71,7 +72,8 @@ export function describeSchedule(o: ScheduleOptions = {}): string {
       : `${head}, plain FFT cross-correlation of the recorded images`;
   });
   lines.push(
-    `after every pass: normalized median test over the 8 neighbours (threshold ${thr}, ε = ${eps} px); outliers replaced by the neighbour median`,
+    `after every pass: normalized median test over the 8 neighbours (threshold ${thr}, ε = ${eps} px); outliers replaced by the neighbour median` +
+      (o.medianKeepPeakRatio !== undefined && o.medianKeepPeakRatio < Infinity ? ` unless their peak ratio is ≥ ${o.medianKeepPeakRatio}` : ''),
     'sub-pixel peak: three-point Gaussian fit (parabolic when a neighbour ≤ 0); peak ratio = primary / highest other local maximum outside the 3×3 neighbourhood',
   );
   return lines.join('\n');
