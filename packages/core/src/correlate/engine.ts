@@ -7,6 +7,7 @@
 import { prefilterCols, prefilterRows, sampleBspline } from './bspline.js';
 import { sampleKeys } from './keysCubic.js';
 import { sampleLanczos4 } from './lanczos.js';
+import { DirectWindowCorrelator } from './directCorrelator.js';
 import { FftWindowCorrelator, type CorrelationOutputs } from './fftCorrelator.js';
 import { axisTaps, type GridAxis } from './predictor.js';
 
@@ -45,6 +46,8 @@ export interface DeformTask {
 export interface CorrelateTask {
   op: 'correlate';
   source: 'original' | 'deformed';
+  /** 'fft': whole correlation plane; 'direct': lags ≤ 2 px with FFT fallback (deformed passes). */
+  method: 'fft' | 'direct';
   windowPx: number;
   cols: number;
   rows: number;
@@ -82,6 +85,13 @@ const correlators = new Map<number, FftWindowCorrelator>();
 function correlator(n: number): FftWindowCorrelator {
   let c = correlators.get(n);
   if (!c) correlators.set(n, (c = new FftWindowCorrelator(n)));
+  return c;
+}
+
+const directs = new Map<number, DirectWindowCorrelator>();
+function direct(n: number): DirectWindowCorrelator {
+  let c = directs.get(n);
+  if (!c) directs.set(n, (c = new DirectWindowCorrelator(n)));
   return c;
 }
 
@@ -171,6 +181,7 @@ function correlateRows(img: EngineImages, t: CorrelateTask, r0: number, r1: numb
   const A = t.source === 'original' ? img.ref : img.defRef;
   const B = t.source === 'original' ? img.meas : img.defMeas;
   const cor = correlator(t.windowPx);
+  const dir = t.method === 'direct' ? direct(t.windowPx) : null;
   const { cols, out, active } = t;
   let pending = -1;
   for (let r = r0; r < r1; r++) {
@@ -181,8 +192,10 @@ function correlateRows(img: EngineImages, t: CorrelateTask, r0: number, r1: numb
         out.dx[k] = out.dy[k] = out.correlation[k] = out.peakRatio[k] = NaN;
         continue;
       }
+      const x0 = t.left + c * t.stepPx;
+      if (dir && dir.run(A, B, img.width, img.height, x0, y0, t.minPixels, out, k)) continue;
       const slot = pending < 0 ? 0 : 1;
-      const got = cor.load(slot, A, B, img.width, t.left + c * t.stepPx, y0);
+      const got = cor.load(slot, A, B, img.width, x0, y0);
       if (got < t.minPixels) {
         out.dx[k] = out.dy[k] = out.correlation[k] = out.peakRatio[k] = NaN;
         continue;

@@ -65,11 +65,21 @@ export function sampleLanczos4(img: Float32Array, width: number, height: number,
   let s = 0;
   if (ix >= 3 && ix + 4 < width && iy >= 3 && iy + 4 < height) {
     let k = ix - 3 + (iy - 3) * width;
-    for (let j = 0; j < TAPS; j++, k += width) {
-      s +=
-        T[by + j]! *
-        (w0 * img[k]! + w1 * img[k + 1]! + w2 * img[k + 2]! + w3 * img[k + 3]! + w4 * img[k + 4]! + w5 * img[k + 5]! + w6 * img[k + 6]! + w7 * img[k + 7]!);
-    }
+    s += T[by + 0]! * (w0 * img[k]! + w1 * img[k + 1]! + w2 * img[k + 2]! + w3 * img[k + 3]! + w4 * img[k + 4]! + w5 * img[k + 5]! + w6 * img[k + 6]! + w7 * img[k + 7]!);
+    k += width;
+    s += T[by + 1]! * (w0 * img[k]! + w1 * img[k + 1]! + w2 * img[k + 2]! + w3 * img[k + 3]! + w4 * img[k + 4]! + w5 * img[k + 5]! + w6 * img[k + 6]! + w7 * img[k + 7]!);
+    k += width;
+    s += T[by + 2]! * (w0 * img[k]! + w1 * img[k + 1]! + w2 * img[k + 2]! + w3 * img[k + 3]! + w4 * img[k + 4]! + w5 * img[k + 5]! + w6 * img[k + 6]! + w7 * img[k + 7]!);
+    k += width;
+    s += T[by + 3]! * (w0 * img[k]! + w1 * img[k + 1]! + w2 * img[k + 2]! + w3 * img[k + 3]! + w4 * img[k + 4]! + w5 * img[k + 5]! + w6 * img[k + 6]! + w7 * img[k + 7]!);
+    k += width;
+    s += T[by + 4]! * (w0 * img[k]! + w1 * img[k + 1]! + w2 * img[k + 2]! + w3 * img[k + 3]! + w4 * img[k + 4]! + w5 * img[k + 5]! + w6 * img[k + 6]! + w7 * img[k + 7]!);
+    k += width;
+    s += T[by + 5]! * (w0 * img[k]! + w1 * img[k + 1]! + w2 * img[k + 2]! + w3 * img[k + 3]! + w4 * img[k + 4]! + w5 * img[k + 5]! + w6 * img[k + 6]! + w7 * img[k + 7]!);
+    k += width;
+    s += T[by + 6]! * (w0 * img[k]! + w1 * img[k + 1]! + w2 * img[k + 2]! + w3 * img[k + 3]! + w4 * img[k + 4]! + w5 * img[k + 5]! + w6 * img[k + 6]! + w7 * img[k + 7]!);
+    k += width;
+    s += T[by + 7]! * (w0 * img[k]! + w1 * img[k + 1]! + w2 * img[k + 2]! + w3 * img[k + 3]! + w4 * img[k + 4]! + w5 * img[k + 5]! + w6 * img[k + 6]! + w7 * img[k + 7]!);
     return s;
   }
   for (let j = 0; j < TAPS; j++) {

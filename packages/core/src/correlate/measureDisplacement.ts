@@ -55,6 +55,13 @@ export interface MeasureDisplacementOptions {
    * bias only shifts the predictor, which the last pass corrects.
    */
   interpolation?: 'lanczos4' | 'bspline3';
+  /**
+   * Correlation of the deformation passes: `'direct'` (default) computes the correlation only at lags
+   * |u|, |v| ≤ 2 px — the residual is sub-pixel there — and falls back to the FFT plane when the peak
+   * lies at the edge of that range; its peak ratio compares the peak with the ring of lags at distance
+   * 2. `'fft'` uses the whole FFT plane (peak ratio against the highest other local maximum anywhere).
+   */
+  refine?: 'direct' | 'fft';
 }
 
 /** Per-pass report. */
@@ -118,6 +125,7 @@ interface Resolved {
   mask: MaskField | undefined;
   keepPeakRatio: number;
   interpolation: 'lanczos4' | 'bspline3';
+  refine: 'direct' | 'fft';
   region: readonly [number, number, number, number] | undefined;
 }
 
@@ -165,7 +173,9 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions): Resolv
   const interpolation = o.interpolation ?? 'lanczos4';
   if (interpolation !== 'lanczos4' && interpolation !== 'bspline3')
     throw invalidParameter('interpolation', "'lanczos4' or 'bspline3'", o.interpolation);
-  return { windowPx, stepPx, passes, medianThreshold, medianEpsilonPx, threads, mask, keepPeakRatio, interpolation, region };
+  const refine = o.refine ?? 'direct';
+  if (refine !== 'direct' && refine !== 'fft') throw invalidParameter('refine', "'direct' or 'fft'", o.refine);
+  return { windowPx, stepPx, passes, medianThreshold, medianEpsilonPx, threads, mask, keepPeakRatio, interpolation, refine, region };
 }
 
 /** Buffers reused between calls of the same size (first writes to fresh memory are slow). */
@@ -328,6 +338,7 @@ export async function measureDisplacement(ref: Field, meas: Field, options: Meas
     await stage({
       op: 'correlate',
       source,
+      method: plan.deform && o.refine === 'direct' ? 'direct' : 'fft',
       windowPx: W,
       cols: grid.cols,
       rows: grid.rows,
