@@ -10,8 +10,8 @@
  * so the peak is a correlation coefficient.
  * The 3-point Gaussian fit refines the peak; the peak ratio is primary / highest value at lag
  * distance 2 (the ring around the 3×3 neighbourhood), a local measure of peak sharpness.
- * When the maximum lies on the ring (residual beyond about 1.5 px) the caller falls back to FFT
- * correlation of the whole window.
+ * When the maximum is not at lag 0 (residual beyond ½ px) the caller falls back to FFT correlation
+ * of the whole window, so a far-away competing peak is still seen there.
  *
  * Cost per window: 25·n² multiply–adds, against about 1.5 complex n×n FFTs for the FFT route.
  */
@@ -135,7 +135,7 @@ export class DirectWindowCorrelator {
     for (let i = 0; i < L * L; i++) if (rr[i]! > best) (best = rr[i]!), (bi = i);
     const pu = bi % L;
     const pv = (bi - pu) / L;
-    if (pu === 0 || pu === L - 1 || pv === 0 || pv === L - 1) return false;
+    if (pu !== R || pv !== R) return false; // residual beyond ½ px: the whole FFT plane decides
     // loss-of-pairs weighting (1 − |u|/n) of the zero-padded windows undone before the fit
     const ux = pu - R;
     const uy = pv - R;

@@ -56,10 +56,11 @@ export interface MeasureDisplacementOptions {
    */
   interpolation?: 'lanczos4' | 'bspline3';
   /**
-   * Correlation of the deformation passes: `'direct'` (default) computes the correlation only at lags
-   * |u|, |v| ≤ 2 px — the residual is sub-pixel there — and falls back to the FFT plane when the peak
-   * lies at the edge of that range; its peak ratio compares the peak with the ring of lags at distance
-   * 2. `'fft'` uses the whole FFT plane (peak ratio against the highest other local maximum anywhere).
+   * Correlation of the last (deformation) pass: `'direct'` (default) computes the correlation only at
+   * lags |u|, |v| ≤ 2 px — the residual is a small fraction of a pixel there — and falls back to the
+   * FFT plane for windows whose peak is not at lag 0; its peak ratio compares the peak with the ring
+   * of lags at distance 2. `'fft'` uses the whole FFT plane (peak ratio against the highest other
+   * local maximum anywhere). Earlier passes always use the FFT plane.
    */
   refine?: 'direct' | 'fft';
 }
