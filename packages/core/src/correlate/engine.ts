@@ -26,6 +26,13 @@ export interface EngineImages {
   defMeas: Float32Array;
   /** 1 = use; null when no mask. */
   mask: Uint8Array | null;
+  /** 2×2-binned ref and meas (floor(width/2) × floor(height/2)), for the coarse pass. */
+  binRef: Float32Array;
+  binMeas: Float32Array;
+}
+
+export interface BinTask {
+  op: 'bin';
 }
 
 export interface PrefilterTask {
@@ -45,7 +52,8 @@ export interface DeformTask {
 
 export interface CorrelateTask {
   op: 'correlate';
-  source: 'original' | 'deformed';
+  /** 'binned': the 2×2-binned images (grid and window in binned pixels). */
+  source: 'original' | 'deformed' | 'binned';
   /** 'fft': whole correlation plane; 'direct': lags ≤ 2 px with FFT fallback (deformed passes). */
   method: 'fft' | 'direct';
   windowPx: number;
@@ -62,10 +70,10 @@ export interface CorrelateTask {
   out: CorrelationOutputs;
 }
 
-export type EngineTask = PrefilterTask | DeformTask | CorrelateTask;
+export type EngineTask = PrefilterTask | DeformTask | CorrelateTask | BinTask;
 
 /** Rows (or columns, or grid rows) per chunk of each stage. */
-export const CHUNK = { prefilterRows: 64, prefilterCols: 64, deform: 32, correlate: 1 } as const;
+export const CHUNK = { prefilterRows: 64, prefilterCols: 64, deform: 32, correlate: 1, bin: 64 } as const;
 
 /** Number of chunks of a task. */
 export function chunkCount(img: EngineImages, task: EngineTask): number {
@@ -78,6 +86,8 @@ export function chunkCount(img: EngineImages, task: EngineTask): number {
       return Math.ceil(img.height / CHUNK.deform);
     case 'correlate':
       return Math.ceil(task.rows / CHUNK.correlate);
+    case 'bin':
+      return 2 * Math.ceil((img.height >> 1) / CHUNK.bin);
   }
 }
 
@@ -121,6 +131,23 @@ export function runChunk(img: EngineImages, task: EngineTask, k: number): void {
       const y0 = k * CHUNK.deform;
       const y1 = Math.min(height, y0 + CHUNK.deform);
       deformRows(img, task, y0, y1);
+      return;
+    }
+    case 'bin': {
+      const hb = height >> 1;
+      const wb = width >> 1;
+      const per = Math.ceil(hb / CHUNK.bin);
+      const second = k >= per;
+      const src = second ? img.meas : img.ref;
+      const dst = second ? img.binMeas : img.binRef;
+      const y0 = (second ? k - per : k) * CHUNK.bin;
+      const y1 = Math.min(hb, y0 + CHUNK.bin);
+      for (let y = y0; y < y1; y++) {
+        const a = 2 * y * width;
+        const b = a + width;
+        const o = y * wb;
+        for (let x = 0; x < wb; x++) dst[o + x] = 0.25 * (src[a + 2 * x]! + src[a + 2 * x + 1]! + src[b + 2 * x]! + src[b + 2 * x + 1]!);
+      }
       return;
     }
     case 'correlate': {
@@ -178,8 +205,10 @@ function deformRows(img: EngineImages, t: DeformTask, y0: number, y1: number): v
 }
 
 function correlateRows(img: EngineImages, t: CorrelateTask, r0: number, r1: number): void {
-  const A = t.source === 'original' ? img.ref : img.defRef;
-  const B = t.source === 'original' ? img.meas : img.defMeas;
+  const A = t.source === 'original' ? img.ref : t.source === 'binned' ? img.binRef : img.defRef;
+  const B = t.source === 'original' ? img.meas : t.source === 'binned' ? img.binMeas : img.defMeas;
+  const width = t.source === 'binned' ? img.width >> 1 : img.width;
+  const height = t.source === 'binned' ? img.height >> 1 : img.height;
   const cor = correlator(t.windowPx);
   const dir = t.method === 'direct' ? direct(t.windowPx) : null;
   const { cols, out, active } = t;
@@ -193,9 +222,9 @@ function correlateRows(img: EngineImages, t: CorrelateTask, r0: number, r1: numb
         continue;
       }
       const x0 = t.left + c * t.stepPx;
-      if (dir && dir.run(A, B, img.width, img.height, x0, y0, t.minPixels, out, k)) continue;
+      if (dir && dir.run(A, B, width, height, x0, y0, t.minPixels, out, k)) continue;
       const slot = pending < 0 ? 0 : 1;
-      const got = cor.load(slot, A, B, img.width, x0, y0);
+      const got = cor.load(slot, A, B, width, x0, y0);
       if (got < t.minPixels) {
         out.dx[k] = out.dy[k] = out.correlation[k] = out.peakRatio[k] = NaN;
         continue;

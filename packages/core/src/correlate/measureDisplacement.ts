@@ -180,18 +180,20 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions): Resolv
 }
 
 /** Buffers reused between calls of the same size (first writes to fresh memory are slow). */
-let cache: { width: number; height: number; shared: boolean; bufs: Float32Array[]; mask: Uint8Array } | null = null;
+let cache: { width: number; height: number; shared: boolean; bufs: Float32Array[]; bins: Float32Array[]; mask: Uint8Array } | null = null;
 
-function buffers(width: number, height: number, shared: boolean): { bufs: Float32Array[]; mask: Uint8Array } {
+function buffers(width: number, height: number, shared: boolean): { bufs: Float32Array[]; bins: Float32Array[]; mask: Uint8Array } {
   if (!cache || cache.width !== width || cache.height !== height || cache.shared !== shared) {
     cache = null;
     const n = width * height;
-    const make = (): Float32Array => (shared ? new Float32Array(new SharedArrayBuffer(4 * n)) : new Float32Array(n));
+    const make = (m = n): Float32Array => (shared ? new Float32Array(new SharedArrayBuffer(4 * m)) : new Float32Array(m));
+    const nb = (width >> 1) * (height >> 1);
     cache = {
       width,
       height,
       shared,
       bufs: [make(), make(), make(), make(), make(), make()],
+      bins: [make(nb), make(nb)],
       mask: shared ? new Uint8Array(new SharedArrayBuffer(n)) : new Uint8Array(n),
     };
   }
@@ -225,6 +227,11 @@ function activeWindows(grid: VectorGrid, W: number, mask: MaskField | undefined,
       active[c + r * grid.cols] = centre && inside >= (W * W) / 2 ? 1 : 0;
     }
   return active;
+}
+
+/** Map a grid laid on the 2×2-binned image back to image pixels (binned pixel i spans pixels 2i, 2i + 1). */
+function unbinGrid(g: VectorGrid, width: number, height: number): VectorGrid {
+  return { cols: g.cols, rows: g.rows, xPx: g.xPx.map((x) => 2 * x + 0.5), yPx: g.yPx.map((y) => 2 * y + 0.5), imageWidth: width, imageHeight: height };
 }
 
 function summedArea(mask: MaskField): Float64Array {
@@ -269,7 +276,7 @@ export async function measureDisplacement(ref: Field, meas: Field, options: Meas
   const deforming = schedule.some((p) => p.deform) || o.mask !== undefined;
 
   // images
-  const { bufs, mask: maskBuf } = buffers(width, height, shared);
+  const { bufs, bins, mask: maskBuf } = buffers(width, height, shared);
   let refData = ref.data;
   let measData = meas.data;
   if (shared) {
@@ -289,6 +296,8 @@ export async function measureDisplacement(ref: Field, meas: Field, options: Meas
     defRef: bufs[4]!,
     defMeas: bufs[5]!,
     mask: o.mask ? maskBuf : null,
+    binRef: bins[0]!,
+    binMeas: bins[1]!,
   };
   const pool = shared ? await enginePool(o.threads - 1) : null;
   const stage = async (task: EngineTask): Promise<void> => {
@@ -312,10 +321,15 @@ export async function measureDisplacement(ref: Field, meas: Field, options: Meas
   for (let pi = 0; pi < schedule.length; pi++) {
     const plan = schedule[pi]!;
     const W = plan.windowPx;
-    const grid = windowGrid(width, height, W, plan.stepPx);
+    // a coarse first pass (window larger than the final one, no mask) runs on 2×2-binned images with
+    // half the window: the same image area for a quarter of the work; its sub-pixel precision is
+    // irrelevant to a predictor
+    const binned = pi === 0 && !plan.deform && schedule.length > 1 && W > o.windowPx && !o.mask && plan.stepPx % 2 === 0;
+    const grid = binned ? unbinGrid(windowGrid(width >> 1, height >> 1, W / 2, plan.stepPx / 2), width, height) : windowGrid(width, height, W, plan.stepPx);
     const n = grid.cols * grid.rows;
     const ta = performance.now();
-    let source: 'original' | 'deformed' = 'original';
+    if (binned) await stage({ op: 'bin' });
+    let source: 'original' | 'deformed' | 'binned' = binned ? 'binned' : 'original';
     let pAx: GridAxis | null = null;
     let pAy: GridAxis | null = null;
     if (plan.deform && prev) {
@@ -340,17 +354,22 @@ export async function measureDisplacement(ref: Field, meas: Field, options: Meas
       op: 'correlate',
       source,
       method: plan.deform && o.refine === 'direct' ? 'direct' : 'fft',
-      windowPx: W,
+      windowPx: binned ? W / 2 : W,
       cols: grid.cols,
       rows: grid.rows,
-      left: grid.xPx[0]! - (W - 1) / 2,
-      top: grid.yPx[0]! - (W - 1) / 2,
-      stepPx: plan.stepPx,
+      left: binned ? (grid.xPx[0]! - (W - 1) / 2) / 2 : grid.xPx[0]! - (W - 1) / 2,
+      top: binned ? (grid.yPx[0]! - (W - 1) / 2) / 2 : grid.yPx[0]! - (W - 1) / 2,
+      stepPx: binned ? plan.stepPx / 2 : plan.stepPx,
       active,
-      minPixels: (W * W) / 2,
+      minPixels: binned ? (W * W) / 8 : (W * W) / 2,
       out,
     });
     const tc = performance.now();
+    if (binned)
+      for (let k = 0; k < n; k++) {
+        out.dx[k] = 2 * out.dx[k]!;
+        out.dy[k] = 2 * out.dy[k]!;
+      }
     if (source === 'deformed' && prev && pAx && pAy) {
       for (let r = 0; r < grid.rows; r++)
         for (let c = 0; c < grid.cols; c++) {
