@@ -56,8 +56,8 @@ describe('measureDisplacement(ref, meas, options)', () => {
         expect(Math.round(single.dxPx.data[k]!) === sx).toBe(true);
         expect(Math.round(single.dyPx.data[k]!) === sy).toBe(true);
       }
-      // multi-pass: the predictor is not exactly whole, so a small interpolation residual remains
-      expect(rmsError(multi, sx, sy)).toBeLessThan(5e-3);
+      // multi-pass: the predictor is not exactly whole (a noisy coarse pass), so a small residual remains
+      expect(rmsError(multi, sx, sy)).toBeLessThan(0.01);
     }
   });
 
