@@ -46,7 +46,11 @@ export interface MeasureDisplacementOptions {
    * the valid vectors whose centres lie inside is subtracted from every vector (camera shake).
    */
   flowFreeRegionPx?: readonly [number, number, number, number];
-  /** Threads (calling thread + worker threads), default the number of cores; 1 runs in-process. */
+  /**
+   * Threads (calling thread + worker threads); 1 runs in-process. Default: the number of cores for
+   * images of 1 Mpx or more, else 1 (starting the workers costs about 0.6 s once per process, more than
+   * a small image takes; the pool is then kept for later calls).
+   */
   threads?: number;
   /**
    * Image interpolator of the window deformation: `'lanczos4'` (default; 8×8 taps, lowest bias) or
@@ -148,7 +152,7 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions): Resolv
   const medianEpsilonPx = o.medianEpsilonPx ?? 0.1;
   if (typeof medianEpsilonPx !== 'number' || !(medianEpsilonPx >= 0) || !Number.isFinite(medianEpsilonPx))
     throw invalidParameter('medianEpsilonPx', 'a number ≥ 0 (px; 0.1 is usual)', o.medianEpsilonPx);
-  const threads = o.threads ?? Math.max(1, os.availableParallelism?.() ?? os.cpus().length);
+  const threads = o.threads ?? (ref.width * ref.height >= 1_000_000 ? Math.max(1, os.availableParallelism?.() ?? os.cpus().length) : 1);
   if (!Number.isInteger(threads) || threads < 1 || threads > 256) throw invalidParameter('threads', 'an integer from 1 to 256', o.threads);
   const mask = o.mask;
   if (mask !== undefined) {

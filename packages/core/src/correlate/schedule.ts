@@ -3,13 +3,15 @@
  *
  * Default (passes = 3, final window W, step s):
  *  1. coarse pass: windows of min(2W, 128) px (no larger than the image) laid every window side
- *     (no overlap), plain correlation of the images as recorded — a cheap predictor that tolerates
+ *     (no overlap), FFT correlation of the 2×2-binned images with half-size windows (the same image
+ *     area for a quarter of the work; without a mask) — a cheap predictor that tolerates
  *     displacements up to about a quarter of the coarse window;
  *  2. … passes: windows of W px every s px on the symmetrically deformed images (Scarano 2002): the
  *     previous pass's field, median-tested and replaced, is interpolated to every pixel (Keys cubic
  *     convolution over the grid), the reference is resampled at x − p/2 and the measurement at
- *     x + p/2 (Lanczos-4 in the last pass, Keys cubic in earlier ones), and the correlation measures
- *     the residual, which is added to the predictor at the window centre.
+ *     x + p/2 (Lanczos-4 in the last pass, Keys cubic in earlier ones), and the correlation (lags
+ *     ≤ 2 px directly, the FFT plane where the residual exceeds ½ px) measures the residual, which is
+ *     added to the predictor at the window centre.
  * With passes = 2 both passes use W (the second deformed); passes = 1 is a single plain pass.
  * Every pass ends with the normalized median test and replacement (Westerweel & Scarano 2005).
  *
@@ -34,6 +36,8 @@ export interface ScheduleOptions {
   medianEpsilonPx?: number;
   interpolation?: 'lanczos4' | 'bspline3';
   medianKeepPeakRatio?: number;
+  refine?: 'direct' | 'fft';
+  hasMask?: boolean;
   /** Image size, when known (limits the coarse window). */
   width?: number;
   height?: number;
@@ -65,16 +69,24 @@ export function describeSchedule(o: ScheduleOptions = {}): string {
   const eps = o.medianEpsilonPx ?? 0.1;
   const lines = plan.map((p, i) => {
     const head = `pass ${i + 1}: ${p.windowPx} px windows every ${p.stepPx} px`;
+    const binned = i === 0 && !p.deform && plan.length > 1 && p.windowPx > (o.windowPx ?? 32) && !o.hasMask && p.stepPx % 2 === 0;
+    const corr =
+      (o.refine ?? 'direct') === 'direct'
+        ? 'the residual is measured by correlation over lags ≤ 2 px (the whole FFT plane where it exceeds ½ px)'
+        : 'the residual is measured by FFT cross-correlation';
     return p.deform
       ? `${head}, images deformed symmetrically by the pass-${i} field (reference at x − d/2, measurement at x + d/2; ${
           i === plan.length - 1 ? ((o.interpolation ?? 'lanczos4') === 'lanczos4' ? 'Lanczos-4' : 'cubic B-spline') : 'Keys cubic'
-        } resampling, field interpolated to pixels by Keys cubic convolution); the correlation measures the residual`
-      : `${head}, plain FFT cross-correlation of the recorded images`;
+        } resampling, field interpolated to pixels by Keys cubic convolution); ${corr}, then added to the field at the window centre`
+      : binned
+        ? `${head}, FFT cross-correlation of the 2×2-binned images (${p.windowPx / 2} px binned windows): a cheap predictor`
+        : `${head}, FFT cross-correlation of the recorded images`;
   });
   lines.push(
     `after every pass: normalized median test over the 8 neighbours (threshold ${thr}, ε = ${eps} px); outliers replaced by the neighbour median` +
       (o.medianKeepPeakRatio !== undefined && o.medianKeepPeakRatio < Infinity ? ` unless their peak ratio is ≥ ${o.medianKeepPeakRatio}` : ''),
-    'sub-pixel peak: three-point Gaussian fit (parabolic when a neighbour ≤ 0); peak ratio = primary / highest other local maximum outside the 3×3 neighbourhood',
+    'sub-pixel peak: three-point Gaussian fit (parabolic when a neighbour ≤ 0) after undoing the loss-of-pairs weighting; peak ratio = primary / highest other local maximum outside the 3×3 neighbourhood' +
+      ((o.refine ?? 'direct') === 'direct' ? ' (for lag-limited vectors: / highest value at lag distance 2)' : ''),
   );
   return lines.join('\n');
 }
