@@ -3,9 +3,11 @@
  *
  * Kernel L(x) = sinc(x)·sinc(x/4) for |x| < 4 (sinc(x) = sin(πx)/(πx)); the 8 weights of each
  * fractional position are normalised to sum 1 (so a constant image stays constant) and tabulated at
- * 1/4096 px (position error ≤ 1.2·10⁻⁴ px). Chosen over cubic B-spline and Lanczos-3 by measurement
- * (bench/cases/displacement.ts notes): on 2.5–2.8 px dots, symmetric deformation by ±d/2 left a bias of
- * about 0.012–0.016 px with cubic B-splines, 0.005–0.007 px with Lanczos-3, ≤ 0.0035 px with Lanczos-4.
+ * 1/4096 px (position error ≤ 1.2·10⁻⁴ px). Chosen over cubic B-spline, quintic B-spline, Keys cubic and
+ * Lanczos-3 by a one-off measurement during development (synthetic 2.5–2.8 px dots, exact predictor,
+ * 32 px windows): symmetric deformation by ±d/2 left a bias of about 0.03–0.06 px with Keys cubic,
+ * 0.012–0.016 px with cubic B-splines, 0.004–0.006 px with quintic B-splines, 0.005–0.0075 px with
+ * Lanczos-3 and ≤ 0.0035 px with Lanczos-4 (Lanczos-5: ≤ 0.0024 px at 1.6× the cost).
  *
  * Reference: C. E. Duchon, "Lanczos filtering in one and two dimensions", Journal of Applied
  * Meteorology 18:1016–1022 (1979); K. Turkowski, "Filters for common resampling tasks", Graphics Gems
