@@ -1,6 +1,6 @@
 /** Helpers for batch tests that run the real CLI as a child process. */
 import { spawn, spawnSync } from 'node:child_process';
-import { readFileSync } from 'node:fs';
+import { existsSync, readFileSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { decodeNpy } from '@rhofield/core';
@@ -36,5 +36,9 @@ export function maxRelDiff(a: ArrayLike<number>, b: ArrayLike<number>, floor = 1
   }
   return m;
 }
+
+/** True when the real per-pair pipeline and its pool worker are in the tree (end-to-end tests need them). */
+export const HAS_PIPELINE = existsSync(path.join(ROOT, 'packages/cli/src/pipeline.ts')) && existsSync(path.join(ROOT, 'packages/cli/src/batch/worker.ts'));
+if (!HAS_PIPELINE) console.warn('tests/batch: end-to-end batch tests SKIPPED - packages/cli/src/pipeline.ts (the per-pair pipeline) is not in the tree yet');
 
 export const STAT_FILES = ['displacement_mean', 'displacement_std', 'displacement_count'];

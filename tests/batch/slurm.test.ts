@@ -10,7 +10,7 @@ import { existsSync, mkdtempSync, readdirSync, readFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { ROOT, STAT_FILES, loadNpy, maxRelDiff, rhofield } from './cliHelpers.js';
+import { HAS_PIPELINE, ROOT, STAT_FILES, loadNpy, maxRelDiff, rhofield } from './cliHelpers.js';
 import { writeSequence } from './synthFrames.js';
 
 const isRoot = typeof process.getuid === 'function' && process.getuid() === 0;
@@ -21,7 +21,7 @@ function sh(cmd: string, args: string[]): string {
   return execFileSync(cmd, args, { encoding: 'utf8' }).trim();
 }
 
-describe.skipIf(!isRoot)('rhofield batch as a SLURM job array (local cluster)', () => {
+describe.skipIf(!isRoot || !HAS_PIPELINE)('rhofield batch as a SLURM job array (local cluster)', () => {
   let startedHere = false;
   beforeAll(() => {
     if (spawnSync(SLURM, ['status']).status !== 0) {

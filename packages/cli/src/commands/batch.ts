@@ -21,6 +21,7 @@ import {
   type ShardSpec,
 } from '@rhofield/core';
 import { EXIT, Log, parseIntOpt, provenance, sha256File, writeFileAtomic } from '../common.js';
+import { DEFAULT_FORMATS } from '../pipeline.js';
 import { resolveFrames } from '../batch/frames.js';
 import { jobScript } from '../batch/jobScript.js';
 import { createPairPool, defaultWorkerCount } from '../batch/pool.js';
@@ -52,7 +53,7 @@ export interface BatchOpts {
 }
 
 const FORMATS: readonly string[] = FIELD_SET_FORMATS;
-const DEFAULTS = { windowPx: 32, passes: 2, formats: ['npy', 'csv', 'png'] };
+const DEFAULTS = { windowPx: 32, passes: 3, formats: DEFAULT_FORMATS.split(',') };
 
 /** The CLI entry of the bin shim, used in emitted job scripts. */
 const BIN = new URL('../../bin/rhofield.js', import.meta.url).pathname;
@@ -120,8 +121,8 @@ async function planFromOptions(o: BatchOpts, log: Log) {
     passes,
     ...(maskPath ? { maskPath } : {}),
     ...(flowFreeRegionPx ? { flowFreeRegionPx } : {}),
-    ...(setup !== undefined ? { setup } : {}),
-    formats,
+    ...(setup !== undefined ? { setup, setupPath: path.resolve(o.setup as string) } : {}),
+    formats: formats.join(','),
     threads: 1,
   };
   // everything that decides a pair's results; the frame list itself may grow between runs (--range)

@@ -1,0 +1,10 @@
+/**
+ * Pool worker of `rhofield batch` (loaded through workerEntry.mjs): runs the real per-pair pipeline
+ * for one task, single-threaded (the batch passes threads: 1, so pools never nest).
+ */
+import { processPair, type PairJob } from '../pipeline.js';
+import type { PairSummaryLike, WorkerTask } from './types.js';
+
+export default function runPairTask(task: WorkerTask): Promise<PairSummaryLike> {
+  return processPair(task.job as unknown as PairJob, task.outDir);
+}
