@@ -279,8 +279,8 @@ export function register(program: Command): void {
   program
     .command('batch')
     .description(
-      'Process a sequence of frames against reference images on all cores: per-pair displacement (and density\n' +
-        'with --setup) under OUT/pairs/<frame id>/, then mean, standard deviation and valid-vector counts in\n' +
+      'Process a sequence of frames against reference images on all cores: per-pair displacement (and density ' +
+        'with --setup) under OUT/pairs/<frame id>/, then mean, standard deviation and valid-vector counts in ' +
         'OUT/statistics/. Rerunning the same command resumes; failed pairs are listed and retried on the next run.',
     )
     .requiredOption('--frames <pattern>', 'measured frames: numbered pattern (frame_%05d.tif), quoted wildcard pattern ("run/*.png") or multi-page TIFF')
