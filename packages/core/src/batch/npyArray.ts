@@ -86,7 +86,8 @@ export function decodeNpy(bytes: Uint8Array, label = 'array'): NpyArray {
   const size = descr === '<f8' ? 8 : 4;
   if (bytes.byteLength - start < n * size) throw inputError(`${label} is truncated (${bytes.byteLength - start} of ${n * size} data bytes)`);
   // copy into an aligned buffer (the data offset is a multiple of 64 in v1 files, but the Uint8Array may not be aligned)
-  const raw = bytes.slice(start, start + n * size).buffer;
+  // Uint8Array.prototype.slice copies even for a Node Buffer (whose own slice() shares memory)
+  const raw = Uint8Array.prototype.slice.call(bytes, start, start + n * size).buffer;
   const data =
     descr === '<f4' ? new Float32Array(raw) : descr === '<f8' ? new Float64Array(raw) : descr === '<i4' ? new Int32Array(raw) : new Uint32Array(raw);
   return { dtype: descr, shape, data };
