@@ -127,3 +127,24 @@ describe('rhofield density REF MEAS --setup FILE --out DIR', () => {
     expect(existsSync(out)).toBe(false);
   });
 });
+
+describe('rhofield view KIND RESULT_DIR', () => {
+  it('renders every kind from the demo density result, and rejects a bad kind / angle / folder with exit 2', async () => {
+    const out = path.join(dir, 'demo');
+    if (!existsSync(out)) {
+      const r0 = await cli(['density', 'fixtures/demo/reference.png', 'fixtures/demo/measurement.png', '--setup', 'fixtures/demo/setup.json', '--out', out, '--threads', '1']);
+      expect(r0.code, r0.err).toBe(0);
+    }
+    for (const k of ['knife-edge', 'colour', 'shadowgraph', 'contour']) {
+      const r = await cli(['view', k, out]);
+      expect(r.code, r.err).toBe(0);
+    }
+    expect(existsSync(path.join(out, 'view_colour.png'))).toBe(true);
+    expect((await cli(['view', 'mirror', out])).code).toBe(2);
+    expect((await cli(['view', 'knife-edge', out, '--angle', 'abc', '--force'])).err).toMatch(/--angle/);
+    const empty = mkdtempSync(path.join(dir, 'empty-'));
+    const r = await cli(['view', 'colour', empty]);
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/result\.json/);
+  });
+});

@@ -1,6 +1,7 @@
 /** The command registry: each entry adds one subcommand to the program. */
 import type { Command } from 'commander';
 import { register as displacement } from './displacement.js';
+import { register as view } from './view.js';
 import { register as plan } from './plan.js';
 import { register as pattern } from './pattern.js';
 import { register as check } from './check.js';
@@ -9,6 +10,7 @@ import { register as merge } from './merge.js';
 
 export const commands: Array<(program: Command) => void> = [
   displacement,
+  view,
   plan,
   pattern,
   check,

@@ -1,0 +1,132 @@
+/**
+ * `rhofield view KIND RESULT_DIR`: classic schlieren/shadowgraph pictures computed from a measured
+ * result folder (made by `rhofield displacement` or `rhofield density` with npy output).
+ * With a density result the views use the deflection angle (rad, from the optical setup); with a
+ * displacement-only result they use the displacement (px) — note that the apparent displacement
+ * points opposite to the deflection (DESIGN §1).
+ */
+import { existsSync, readFileSync } from 'node:fs';
+import path from 'node:path';
+import type { Command } from 'commander';
+import {
+  colourSchlieren,
+  contourView,
+  decodeNpy,
+  inputError,
+  invalidParameter,
+  knifeEdgeView,
+  shadowgraphView,
+  VERSION,
+  viewFigure,
+  type Field,
+} from '@rhofield/core';
+import { EXIT_CODES_HELP, Log, parseNumOpt, writeFileAtomic, type GlobalOpts } from '../common.js';
+
+const KINDS = ['knife-edge', 'colour', 'shadowgraph', 'contour'] as const;
+type Kind = (typeof KINDS)[number];
+
+interface ViewOpts extends GlobalOpts {
+  angle?: string;
+  out?: string;
+  force?: boolean;
+  levels?: string;
+}
+
+function readField(dir: string, name: string): Field {
+  const f = path.join(dir, name);
+  if (!existsSync(f)) throw inputError(`result folder ${dir} is missing ${name}; rerun the command that made it with --format including npy`);
+  const a = decodeNpy(readFileSync(f), f);
+  const [h, w] = a.shape as [number, number];
+  return { width: w, height: h, data: Float32Array.from(a.data as ArrayLike<number>) };
+}
+
+function readVec(dir: string, name: string): Float64Array {
+  const f = path.join(dir, name);
+  if (!existsSync(f)) throw inputError(`result folder ${dir} is missing ${name}; rerun the command that made it with --format including npy`);
+  return Float64Array.from(decodeNpy(readFileSync(f), f).data as ArrayLike<number>);
+}
+
+async function runView(kindRaw: string, dir: string, o: ViewOpts): Promise<void> {
+  const log = new Log(o);
+  if (!(KINDS as readonly string[]).includes(kindRaw)) throw invalidParameter('KIND', `one of ${KINDS.join(', ')}`, kindRaw);
+  const kind = kindRaw as Kind;
+  const angle = parseNumOpt('--angle', o.angle ?? '0')!;
+  const resultFile = path.join(dir, 'result.json');
+  if (!existsSync(resultFile)) throw inputError(`${dir} is not a rhofield result folder (no result.json); pass the --out folder of displacement or density`);
+  let result: { tool?: string; version?: string };
+  try {
+    result = JSON.parse(readFileSync(resultFile, 'utf8'));
+  } catch {
+    throw inputError(`${resultFile} is not valid JSON; rerun the command that made it`);
+  }
+  const major = (v: string) => v.split('.')[0];
+  if (result.tool !== 'rhofield' || typeof result.version !== 'string' || major(result.version) !== major(VERSION)) {
+    throw inputError(`${dir} was made by an incompatible version (${result.version ?? 'unknown'}; this is ${VERSION}); rerun it with this version`);
+  }
+  const density = existsSync(path.join(dir, 'density_rho.npy'));
+  const haveM = existsSync(path.join(dir, 'displacement_x_m.npy'));
+  const xs = haveM ? readVec(dir, 'displacement_x_m.npy') : readVec(dir, 'displacement_x_px.npy');
+  const ys = haveM ? readVec(dir, 'displacement_y_m.npy') : readVec(dir, 'displacement_y_px.npy');
+  const scale = haveM ? 1000 : 1;
+  const xMm = Float64Array.from(xs, (v) => v * scale);
+  const yMm = Float64Array.from(ys, (v) => v * scale);
+  let vx: Field;
+  let vy: Field;
+  let unit: string;
+  if (density) {
+    vx = readField(dir, 'density_eps_x.npy');
+    const up = readField(dir, 'density_eps_y.npy');
+    vy = { ...up, data: Float32Array.from(up.data, (v) => -v) }; // views take the image frame (y down)
+    unit = 'rad';
+  } else {
+    vx = readField(dir, 'displacement_dx.npy');
+    vy = readField(dir, 'displacement_dy.npy');
+    unit = 'px';
+  }
+  const hx = Math.abs((xMm[1] ?? xMm[0]! + 1) - xMm[0]!) / (haveM ? 1000 : 1) || 1;
+  const hy = Math.abs((yMm[1] ?? yMm[0]! + 1) - yMm[0]!) / (haveM ? 1000 : 1) || 1;
+  const what = density ? 'deflection' : 'displacement';
+  let view;
+  let title: string;
+  if (kind === 'knife-edge') {
+    view = knifeEdgeView(vx, vy, { angleDeg: angle, unit });
+    title = `knife-edge view: ${what} component at ${angle}° (0° = vertical edge)`;
+  } else if (kind === 'colour') {
+    view = colourSchlieren(vx, vy, { unit });
+    title = `colour schlieren: ${what} direction and magnitude`;
+  } else if (kind === 'shadowgraph') {
+    view = shadowgraphView(vx, vy, { hx, hy, unit: `${unit}/${haveM ? 'm' : 'px'}` });
+    title = `shadowgraph view: −∇·(${what})`;
+  } else {
+    const rhoName = existsSync(path.join(dir, 'density_T.npy')) && o.levels === 'T' ? 'density_T.npy' : 'density_rho.npy';
+    if (!density) throw inputError(`${dir} holds no density (density_rho.npy); contour needs a result of rhofield density`);
+    const isT = rhoName === 'density_T.npy';
+    view = contourView(readField(dir, rhoName), { quantity: isT ? 'temperature T' : 'density ρ', unit: isT ? 'K' : 'kg/m^3', count: 10 });
+    title = isT ? 'temperature contours' : 'density contours';
+  }
+  const fig = viewFigure(view, { xMm, yMm, axisUnit: haveM ? 'mm' : 'px', title });
+  const base = o.out ?? path.join(dir, `view_${kind}${kind === 'knife-edge' ? `_${angle}deg` : ''}.png`);
+  if (existsSync(base) && !o.force) throw invalidParameter('--out', 'a file that does not exist yet (or pass --force)', base);
+  const png = await fig.png();
+  await writeFileAtomic(base, png);
+  if (base.endsWith('.png')) await writeFileAtomic(base.replace(/\.png$/, '.svg'), fig.svg);
+  log.info(`wrote ${base}`);
+  log.json({ kind, file: base, source: what, unit });
+}
+
+export function register(program: Command): void {
+  program
+    .command('view')
+    .description('render classic views from a measured result: knife-edge, colour schlieren, shadowgraph, contours')
+    .argument('<kind>', `one of ${KINDS.join(', ')}`)
+    .argument('<resultDir>', 'output folder of rhofield displacement or density (with npy files)')
+    .option('--angle <deg>', 'knife-edge: direction of sensitivity in degrees; 0° = horizontal deflection (a vertical knife edge), 90° = upward', '0')
+    .option('--levels <what>', "contour: 'rho' (default) or 'T' (temperature, when present)")
+    .option('--out <file.png>', 'output PNG (an SVG is written beside it); default RESULT_DIR/view_<kind>.png')
+    .option('--force', 'replace an existing output file')
+    .option('--json', 'machine summary on stdout')
+    .option('--quiet', 'no messages')
+    .option('--verbose', 'more messages')
+    .addHelpText('after', EXIT_CODES_HELP)
+    .action((kind: string, dir: string, o: ViewOpts) => runView(kind, dir, o));
+}
