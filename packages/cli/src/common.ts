@@ -242,3 +242,48 @@ export async function timed<T>(timings: Record<string, number>, stage: string, f
     timings[stage] = +((performance.now() - t0) / 1000).toFixed(4);
   }
 }
+
+import cliProgress from 'cli-progress';
+
+/**
+ * A stage progress bar for single-pair work: shown on stderr only when it is a terminal, not under CI,
+ * not with --quiet/--json/--verbose, and only once the work has run for about a second (short runs stay
+ * silent; the delay can be changed with the environment variable RHOFIELD_PROGRESS_DELAY_MS, which the
+ * tests use). `stage(name, fraction)` moves it; `stop()` clears it.
+ */
+export class StageProgress {
+  private bar: cliProgress.SingleBar | null = null;
+  private timer: NodeJS.Timeout | null = null;
+  private name = 'starting';
+  private fraction = 0;
+  private readonly enabled: boolean;
+  constructor(o: GlobalOpts, delayMs = Number(process.env['RHOFIELD_PROGRESS_DELAY_MS'] ?? 1000)) {
+    this.enabled = !!process.stderr.isTTY && process.env['CI'] !== 'true' && !o.quiet && !o.json && !o.verbose;
+    if (this.enabled) {
+      this.timer = setTimeout(() => this.show(), delayMs);
+      this.timer.unref();
+    }
+  }
+  private show(): void {
+    this.bar = new cliProgress.SingleBar(
+      { format: 'rhofield {bar} {percentage}% | {stage} | {duration_formatted}', stream: process.stderr, hideCursor: true, clearOnComplete: true },
+      cliProgress.Presets.shades_classic,
+    );
+    this.bar.start(100, Math.round(this.fraction * 100), { stage: this.name });
+  }
+  /** Enter a stage; `fraction` (0–1) is the share of the work done when it starts. */
+  stage(name: string, fraction: number): void {
+    this.name = name;
+    this.fraction = fraction;
+    this.bar?.update(Math.round(fraction * 100), { stage: name });
+  }
+  stop(): void {
+    if (this.timer) clearTimeout(this.timer);
+    this.timer = null;
+    if (this.bar) {
+      this.bar.update(100, { stage: 'done' });
+      this.bar.stop();
+    }
+    this.bar = null;
+  }
+}

@@ -50,8 +50,11 @@ export interface PairJob {
 
 export const DEFAULT_FORMATS = 'npy,csv,png';
 
+/** Called when the pipeline enters a stage; `fraction` (0–1) is roughly the share of the work done. */
+export type StageCallback = (stage: string, fraction: number) => void;
+
 /** Process one pair into `outDir` (existing and empty). Returns the summary written to result.json. */
-export async function processPair(job: PairJob, outDir: string): Promise<Record<string, unknown>> {
+export async function processPair(job: PairJob, outDir: string, onStage: StageCallback = () => {}): Promise<Record<string, unknown>> {
   const o = job.options;
   const formats: FieldSetFormat[] = parseFormats(o.formats ?? DEFAULT_FORMATS);
   const timings: Record<string, number> = {};
@@ -64,6 +67,7 @@ export async function processPair(job: PairJob, outDir: string): Promise<Record<
     }
   };
 
+  onStage('loading images', 0);
   const [refImg, measImg] = await t('load', () =>
     Promise.all([loadImage(job.refPath, job.refPage !== undefined ? { page: job.refPage } : {}), loadImage(job.measPath, job.measPage !== undefined ? { page: job.measPage } : {})]),
   );
@@ -73,6 +77,7 @@ export async function processPair(job: PairJob, outDir: string): Promise<Record<
     );
   }
   const mask = o.maskPath ? await t('mask', () => loadMask(o.maskPath!, { width: refImg.width, height: refImg.height })) : undefined;
+  onStage('measuring displacement', 0.05);
   const disp = await t('displacement', () =>
     measureDisplacement(refImg.field, measImg.field, {
       ...(o.windowPx !== undefined ? { windowPx: o.windowPx } : {}),
@@ -114,6 +119,7 @@ export async function processPair(job: PairJob, outDir: string): Promise<Record<
     measPage: job.measPage ?? 0,
   };
 
+  onStage('writing displacement files', 0.8);
   await t('write_displacement', async () => {
     const set = displacementFieldSet(disp, { ...(xM ? { xM } : {}), ...(yM ? { yM } : {}), settings });
     if (formats.includes('npy')) await fsp.writeFile(path.join(outDir, 'displacement.npy'), fieldToNpy([disp.dxPx, disp.dyPx]));
@@ -122,7 +128,9 @@ export async function processPair(job: PairJob, outDir: string): Promise<Record<
 
   let density: ReturnType<typeof reconstructDensity> | null = null;
   if (setup) {
+    onStage('reconstructing density', 0.88);
     density = await t('reconstruct', () => reconstructDensity(disp, setup));
+    onStage('writing density files', 0.92);
     await t('write_density', async () => {
       const set = densityFieldSet(density!, { xPx: disp.grid.xPx, yPx: disp.grid.yPx }, { settings });
       if (formats.includes('npy')) await fsp.writeFile(path.join(outDir, 'density.npy'), fieldToNpy(density!.rho));

@@ -4,7 +4,7 @@
  */
 import type { Command } from 'commander';
 import { describeSchedule, invalidParameter, loadSetup } from '@rhofield/core';
-import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, requireFile, type GlobalOpts } from '../common.js';
+import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, requireFile, StageProgress, type GlobalOpts } from '../common.js';
 import { DEFAULT_FORMATS, processPair, type PairOptions } from '../pipeline.js';
 
 interface PairCliOpts extends GlobalOpts {
@@ -40,7 +40,7 @@ export function addDisplacementOptions(cmd: Command): Command {
     .option('--meas-page <n>', 'page of a multi-page TIFF measurement (0-based)')
     .option('--force', 'replace existing results in --out')
     .option('--json', 'print a machine summary (result.json) on stdout')
-    .option('--quiet', 'no progress messages')
+    .option('--quiet', 'no progress messages (a progress bar appears only on a terminal, after ~1 s)')
     .option('--verbose', 'more messages, stack traces on errors');
 }
 
@@ -83,13 +83,17 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
   const refPage = parseIntOpt('--ref-page', o.refPage, 0);
   const measPage = parseIntOpt('--meas-page', o.measPage, 0);
   const out = await OutputDir.open(o.out, !!o.force);
+  const progress = new StageProgress(o);
   try {
     log.info(`rhofield ${kind}: ${ref} → ${meas}`);
     const summary = await processPair(
       { refPath: ref, measPath: meas, ...(refPage !== undefined ? { refPage } : {}), ...(measPage !== undefined ? { measPage } : {}), options },
       out.staging,
+      (stage, fraction) => progress.stage(stage, fraction),
     );
+    progress.stage('moving results into place', 0.99);
     await out.commit();
+    progress.stop();
     const d = summary.displacement as { counts: Record<string, number>; maxMagnitudePx: number | null };
     const g = summary.grid as { cols: number; rows: number };
     log.info(
@@ -101,6 +105,7 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
     log.info(`results in ${o.out}`);
     log.json({ ...summary, outDir: o.out });
   } catch (e) {
+    progress.stop();
     await out.abort();
     throw e;
   }
