@@ -147,4 +147,28 @@ describe('rhofield view KIND RESULT_DIR', () => {
     expect(r.code).toBe(2);
     expect(r.err).toMatch(/result\.json/);
   });
+
+  it('a result folder missing files or from an incompatible version, and an unwritable output path: one line, exit 2', async () => {
+    const out = path.join(dir, 'demo');
+    if (!existsSync(out)) {
+      const r0 = await cli(['density', 'fixtures/demo/reference.png', 'fixtures/demo/measurement.png', '--setup', 'fixtures/demo/setup.json', '--out', out, '--threads', '1']);
+      expect(r0.code, r0.err).toBe(0);
+    }
+    const oneLine = (r: { code: number; err: string }, re: RegExp) => {
+      expect(r.code).toBe(2);
+      expect(r.err.trim().split('\n')).toHaveLength(1);
+      expect(r.err).toMatch(re);
+      expect(r.err).not.toMatch(/\n\s+at /);
+    };
+    const copy = mkdtempSync(path.join(dir, 'partial-'));
+    for (const f of readdirSync(out)) if (f !== 'density_eps_x.npy' && !f.startsWith('view_')) writeFileSync(path.join(copy, f), readFileSync(path.join(out, f)));
+    oneLine(await cli(['view', 'colour', copy]), /missing density_eps_x\.npy/);
+    const old = mkdtempSync(path.join(dir, 'old-'));
+    for (const f of readdirSync(out)) if (!f.startsWith('view_')) writeFileSync(path.join(old, f), readFileSync(path.join(out, f)));
+    const res = JSON.parse(readFileSync(path.join(old, 'result.json'), 'utf8'));
+    writeFileSync(path.join(old, 'result.json'), JSON.stringify({ ...res, version: '99.0.0' }));
+    oneLine(await cli(['view', 'colour', old]), /incompatible version/);
+    oneLine(await cli(['view', 'colour', out, '--out', path.join(dir, 'no-such-folder', 'v.png')]), /no-such-folder/);
+    expect(existsSync(path.join(dir, 'no-such-folder'))).toBe(false);
+  });
 });
