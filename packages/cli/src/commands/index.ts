@@ -7,6 +7,7 @@ import { register as pattern } from './pattern.js';
 import { register as check } from './check.js';
 import { register as batch } from './batch.js';
 import { register as merge } from './merge.js';
+import { register as simulate } from './simulate.js';
 
 export const commands: Array<(program: Command) => void> = [
   displacement,
@@ -16,4 +17,5 @@ export const commands: Array<(program: Command) => void> = [
   check,
   batch,
   merge,
+  simulate,
 ];

@@ -7,3 +7,5 @@ export { recommendDotDiameter } from './recommendDotDiameter.js';
 export { discBlur } from './discBlur.js';
 export type { SimulationFieldKind, SimulationEngines, SimulateOptions, SimulationErrors, SimulationResult } from './simulateSetup.js';
 export { simulateSetup, SIMULATION_FIELD_KINDS } from './simulateSetup.js';
+export type { SimulationEngineOptions } from './simulationEngines.js';
+export { createSimulationEngines } from './simulationEngines.js';

@@ -92,7 +92,7 @@ export interface SetupPlan {
   readonly dotImageDiameterPx: number;
   /** Disturbance size 2L in image pixels. */
   readonly disturbancePx: number;
-  /** Recommended final interrogation window, px (≥ 10 dots). */
+  /** Recommended final interrogation window, px (≥ 10 dots; a power of two 16–128, as the correlator takes). */
   readonly windowPx: number;
   /** Recommended first-pass window, px (≥ 4 × max displacement). */
   readonly firstWindowPx: number;
@@ -105,7 +105,8 @@ export interface SetupPlan {
   readonly notes: readonly string[];
 }
 
-const WINDOWS = [8, 12, 16, 24, 32, 48, 64, 96, 128, 192, 256];
+/** Window sides the correlator accepts (powers of two 16–128, measureDisplacement). */
+const WINDOWS = [16, 32, 64, 128];
 
 function pos(name: string, v: unknown): number {
   if (typeof v !== 'number' || !(v > 0) || !Number.isFinite(v)) throw invalidParameter(name, 'a positive number', v);
@@ -210,8 +211,8 @@ export function planSetup(setup: PlanSetupInput, opts: PlanOptions = {}): SetupP
   const geoImgPx = (M * dot) / p;
   const perPx2 = fill / ((Math.PI * geoImgPx * geoImgPx) / 4);
   const needW = Math.sqrt(10 / perPx2);
-  const windowPx = WINDOWS.find((w) => w >= Math.max(16, needW)) ?? 256;
-  const firstWindowPx = WINDOWS.find((w) => w >= Math.max(windowPx, 4 * dMax)) ?? 256;
+  const windowPx = WINDOWS.find((w) => w >= Math.max(16, needW)) ?? 128;
+  const firstWindowPx = WINDOWS.find((w) => w >= Math.max(windowPx, 4 * dMax)) ?? 128;
   const disturbancePx = 2 * Lpx;
   const across = disturbancePx / windowPx;
 
@@ -220,6 +221,8 @@ export function planSetup(setup: PlanSetupInput, opts: PlanOptions = {}): SetupP
   if (diffPx > 3) notes.push(`diffraction alone gives ${diffPx.toFixed(1)} px dot images at f/${N}; open the aperture if dots look too large`);
   if (dotImgPx < 2) notes.push(`dot images ${dotImgPx.toFixed(1)} px: risk of peak locking`);
   if (across < 4) notes.push(`the disturbance (2L = ${disturbancePx.toFixed(0)} px) spans only ${across.toFixed(1)} windows of ${windowPx} px; its peak will be smoothed`);
+  if (needW > 128) notes.push(`10 dots need ${needW.toFixed(0)} px windows, above the 128 px the correlator takes; print smaller dots or raise the fill`);
+  if (4 * dMax > 128) notes.push(`peak displacement ${dMax.toFixed(1)} px exceeds a quarter of the largest (128 px) window; the first pass may lose it`);
   if (slope > 0.05) notes.push(`displacement gradient ${slope.toFixed(3)} px/px exceeds 0.05 (Keane & Adrian single-pass rule, from memory); use window deformation`);
   if (blur > L / 4) notes.push(`defocus blur in the flow ${mm(blur)} is more than L/4 = ${mm(L / 4)}; fine structure will be smoothed`);
   if (dT !== null) notes.push('density from temperature assumes constant pressure and composition (ideal gas); fuel or combustion products change K');

@@ -5,7 +5,7 @@
  *
  * Steps: (1) plan the setup ({@link planSetup}); (2) build the scene on an image crop of `sizePx`
  * centred on the optical axis: a planar Gaussian hot spot Δρ·exp(−r²/L²) over the span, an
- * axisymmetric Gaussian plume Δρ·exp(−r²/L²) about a vertical axis, or a Mach 2, 10° wedge with its
+ * axisymmetric Gaussian plume Δρ·exp(−r²/L²) about a vertical axis, or a wedge (default Mach 2, 10°) with its
  * attached oblique shocks (synth/density.ts); (3) the true displacement d = −M·Z_D·eps/p per pixel,
  * averaged over the defocus disc of the flow ({@link discBlur}, diameter (f/N)·Z_D/Z_B in object
  * space); (4) dot images with the planned dot image diameter and fill 0.4; (5) displacement by
@@ -13,7 +13,7 @@
  * The renderer and the correlator are passed in (`engines`), so this module depends only on their
  * shapes.
  */
-import type { Field } from '../util/field.js';
+import type { Field, MaskField } from '../util/field.js';
 import { invalidParameter } from '../util/errors.js';
 import type { Setup } from '../setup/schema.js';
 import type { DisplacementField } from '../correlate/types.js';
@@ -37,9 +37,11 @@ export interface SimulationEngines {
     seed: number;
     noise: number;
     displacement: (xPx: number, yPx: number) => [number, number];
+    /** Where the background is visible (1) or hidden by a body (0); absent when nothing is hidden. */
+    hidden?: MaskField;
   }): Promise<{ reference: Field; measurement: Field }> | { reference: Field; measurement: Field };
   /** Measure the displacement field between the two images. */
-  measure(reference: Field, measurement: Field, o: { windowPx: number; firstWindowPx: number }): Promise<DisplacementField> | DisplacementField;
+  measure(reference: Field, measurement: Field, o: { windowPx: number; firstWindowPx: number; mask?: MaskField }): Promise<DisplacementField> | DisplacementField;
 }
 
 /** Options of {@link simulateSetup}. */
@@ -50,10 +52,14 @@ export interface SimulateOptions {
   readonly seed?: number;
   /** Image noise, standard deviation relative to the dot peak (default 0.02). */
   readonly noise?: number;
-  /** Final window, px (default: the plan's). */
+  /** Final window, px, a power of two 16–128 (default: the plan's, raised to a power of two ≥ 16). */
   readonly windowPx?: number;
   /** Displacement noise assumed by the plan, px (default 0.05). */
   readonly noisePx?: number;
+  /** Shock only: upstream Mach number (default 2). */
+  readonly mach?: number;
+  /** Shock only: wedge half-angle, degrees (default 10). */
+  readonly wedgeHalfAngleDeg?: number;
 }
 
 /** Errors of the whole chain. */
@@ -62,7 +68,7 @@ export interface SimulationErrors {
   readonly peakDisplacementTruePx: number;
   /** Largest |d| measured, px. */
   readonly peakDisplacementMeasuredPx: number;
-  /** Largest |d| the planner predicts (unblurred model), px. */
+  /** Largest |d| the planner predicts (unblurred Gaussian model), px; NaN for the shock, which the planner does not model. */
   readonly peakDisplacementPlannedPx: number;
   /** RMS of measured − true displacement (both components, valid vectors), px. */
   readonly displacementRmsPx: number;
@@ -91,6 +97,10 @@ export interface SimulationResult {
   readonly density: DensityResult;
   /** True density on the vector grid, kg/m³. */
   readonly trueDensity: Field;
+  /** Background visibility (1 visible, 0 hidden by the wedge); undefined when nothing is hidden. */
+  readonly mask: MaskField | undefined;
+  /** Final interrogation window used, px. */
+  readonly windowPx: number;
   readonly errors: SimulationErrors;
 }
 
@@ -126,13 +136,18 @@ export async function simulateSetup(setup: Setup, engines: SimulationEngines, op
   const simSetup: Setup =
     opts.field === 'plume'
       ? { ...setup, geometry: { ...setup.geometry, originPx: [o, o] }, flow: { type: 'axisymmetric', axis: 'vertical', axisPosition: o } }
-      : { ...setup, geometry: { ...setup.geometry, originPx: [o, o] }, flow: { type: 'planar', span: span ?? 2 * L, reference: 'top' } };
+      : {
+          ...setup,
+          geometry: { ...setup.geometry, originPx: [o, o] },
+          // the shock's upstream side is the left edge; the hot spot has undisturbed air at the top
+          flow: { type: 'planar', span: span ?? 2 * L, reference: opts.field === 'shock' ? 'left' : 'top' },
+        };
   const plan = planSetup(simSetup, { ...(opts.noisePx !== undefined ? { noisePx: opts.noisePx } : {}) });
   const drho = plan.densityChange;
   let scene: DensityScene;
   if (opts.field === 'gaussian') scene = planarGaussianScene(simSetup, { amplitude: drho, sigmaM: L / Math.SQRT2 });
   else if (opts.field === 'plume') scene = axisymmetricGaussianScene(simSetup, { amplitude: drho, sigmaM: L, axis: 'vertical', axisM: 0 });
-  else scene = obliqueShockScene(simSetup, { mach: 2, wedgeHalfAngleDeg: 10, apexM: [-0.25 * size * plan.flowPixelSize, 0], smoothingPx: 1 });
+  else scene = obliqueShockScene(simSetup, { mach: opts.mach ?? 2, wedgeHalfAngleDeg: opts.wedgeHalfAngleDeg ?? 10, apexM: [-0.25 * size * plan.flowPixelSize, 0], smoothingPx: 1 });
 
   // (3) true displacement per pixel, blurred by the defocus disc; bodies (NaN) are blurred as 0 and re-masked
   const disp = sceneDisplacement(scene, simSetup, size, size);
@@ -149,9 +164,15 @@ export async function simulateSetup(setup: Setup, engines: SimulationEngines, op
   }
   const trueDx = discBlur({ width: size, height: size, data: dx }, plan.flowBlurPx);
   const trueDy = discBlur({ width: size, height: size, data: dy }, plan.flowBlurPx);
-  for (let i = 0; i < hidden.length; i++) if (hidden[i]) trueDx.data[i] = trueDy.data[i] = NaN;
+  let anyHidden = false;
+  for (let i = 0; i < hidden.length; i++) if (hidden[i]) {
+    trueDx.data[i] = trueDy.data[i] = NaN;
+    anyHidden = true;
+  }
   const ix = bilinear(trueDx);
   const iy = bilinear(trueDy);
+  // visibility mask of the background (1 = visible), for the renderer and the correlator
+  const mask: MaskField | undefined = anyHidden ? { width: size, height: size, data: hidden.map((h) => (h ? 0 : 1)) } : undefined;
 
   // (4) images, (5) correlation, (6) density
   const { reference, measurement } = await engines.renderPair({
@@ -162,9 +183,18 @@ export async function simulateSetup(setup: Setup, engines: SimulationEngines, op
     seed,
     noise: opts.noise ?? 0.02,
     displacement: (x, y) => [ix(x, y), iy(x, y)],
+    ...(mask ? { hidden: mask } : {}),
   });
-  const windowPx = opts.windowPx ?? Math.max(plan.windowPx, 16);
-  const measured = await engines.measure(reference, measurement, { windowPx, firstWindowPx: Math.max(windowPx, plan.firstWindowPx) });
+  let windowPx = opts.windowPx;
+  if (windowPx === undefined) {
+    windowPx = 16;
+    while (windowPx < plan.windowPx && windowPx < 128) windowPx *= 2;
+  }
+  if (!(Number.isInteger(windowPx) && windowPx >= 16 && windowPx <= 128 && (windowPx & (windowPx - 1)) === 0)) {
+    throw invalidParameter('windowPx', 'a power of two 16–128 px', windowPx);
+  }
+  if (4 * windowPx > size) throw invalidParameter('sizePx', `at least 4 windows (${4 * windowPx} px) for ${windowPx} px windows`, size);
+  const measured = await engines.measure(reference, measurement, { windowPx, firstWindowPx: Math.max(windowPx, plan.firstWindowPx), ...(mask ? { mask } : {}) });
   const density = reconstructDensity(measured, simSetup);
   const trueDensity = sceneDensityOnGrid(scene, simSetup, measured.grid);
 
@@ -217,10 +247,12 @@ export async function simulateSetup(setup: Setup, engines: SimulationEngines, op
     displacement: measured,
     density,
     trueDensity,
+    mask,
+    windowPx,
     errors: {
       peakDisplacementTruePx: pT,
       peakDisplacementMeasuredPx: pM,
-      peakDisplacementPlannedPx: plan.maxDisplacementPx,
+      peakDisplacementPlannedPx: opts.field === 'shock' ? NaN : plan.maxDisplacementPx,
       displacementRmsPx: n ? Math.sqrt(se / (2 * n)) : NaN,
       densityPeakTrue: dT,
       densityPeakMeasured: dM,
