@@ -9,7 +9,9 @@
  */
 import { promises as fsp } from 'node:fs';
 import path from 'node:path';
-import { createRng, encodeNpy } from '@rhofield/core';
+// narrow imports (not the package index): pool workers that load this start in a fraction of a second
+import { encodeNpy } from '../../packages/core/src/batch/npyArray.js';
+import { createRng } from '../../packages/core/src/util/rng.js';
 
 export interface FakeOptions {
   rows?: number;
