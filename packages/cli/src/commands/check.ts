@@ -5,11 +5,8 @@
  * usage/input errors.
  */
 import type { Command } from 'commander';
-import * as core from '@rhofield/core';
-import { diagnoseImage, diagnosePair, inputError, type DiagnosePairOptions, type Field, type Finding } from '@rhofield/core';
-
-type Displacement = NonNullable<DiagnosePairOptions['displacement']>;
-import { EXIT, Log, parseIntOpt, parseNumOpt, requireFile } from '../common.js';
+import { diagnoseImage, diagnosePair, invalidParameter, loadImage, measureDisplacement, type Field, type Finding } from '@rhofield/core';
+import { EXIT, EXIT_CODES_HELP, Log, parseIntOpt, parseNumOpt, requireFile } from '../common.js';
 
 interface CheckOpts {
   window?: string;
@@ -20,23 +17,9 @@ interface CheckOpts {
   force?: boolean;
 }
 
-type Loader = (file: string) => Promise<unknown>;
-
-/** Load an image to a grey Field through the image stage's loader. */
+/** Load an image to a grey Field (colour converted by the image stage; unreadable files → exit 2). */
 export async function loadGrey(file: string): Promise<Field> {
-  const load = (core as unknown as Record<string, unknown>)['loadImage'] as Loader | undefined;
-  if (typeof load !== 'function') throw inputError('image loading is not available in this build (image stage missing)');
-  const r = (await load(file)) as Field | { field: Field };
-  return 'data' in r ? r : r.field;
-}
-
-/** Optional single-pass correlation through the correlate stage, when present. */
-async function singlePass(ref: Field, meas: Field, windowPx: number): Promise<Displacement | undefined> {
-  const measure = (core as unknown as Record<string, unknown>)['measureDisplacement'] as
-    | ((a: Field, b: Field, o: Record<string, unknown>) => Displacement | Promise<Displacement>)
-    | undefined;
-  if (typeof measure !== 'function') return undefined;
-  return await measure(ref, meas, { windowPx, passes: 1 });
+  return (await loadImage(file)).field;
 }
 
 function show(log: Log, title: string, findings: readonly Finding[]): void {
@@ -53,15 +36,17 @@ export function register(program: Command): void {
     .description('Check whether a reference image (and optionally a measurement image) is fit for BOS measurement: dot image diameter (e⁻², px), dots per window, contrast, clipped pixels, noise and focus; for a pair, the global shift (camera moved?) and the fraction of weak correlation peaks. Each finding comes with advice. Exit code 3 means the images are unusable for measurement.')
     .argument('<ref>', 'reference image (PNG, TIFF, JPEG; colour is converted to grey)')
     .argument('[meas]', 'measurement image of the same size (optional)')
-    .option('--window <px>', 'interrogation window side for the dots-per-window figure and the correlation pass (default 32)')
+    .option('--window <px>', 'interrogation window side for the dots-per-window figure and the correlation pass: a power of two 16–128, as in displacement (default 32)')
     .option('--saturation <count>', 'saturation count of the camera (default: inferred from the image maximum: 255, 1023, 4095, 16383 or 65535)')
     .option('--json', 'print the findings as JSON on stdout')
     .option('--quiet', 'no messages on stderr')
     .option('--verbose', 'more detail on errors')
     .option('--force', 'accepted for uniformity; check writes no files')
+    .addHelpText('after', EXIT_CODES_HELP)
     .action(async (ref: string, meas: string | undefined, o: CheckOpts) => {
       const log = new Log(o);
-      const windowPx = parseIntOpt('--window', o.window, 8, 512) ?? 32;
+      const windowPx = parseIntOpt('--window', o.window, 16, 128) ?? 32;
+      if ((windowPx & (windowPx - 1)) !== 0) throw invalidParameter('--window', 'a power of two 16–128 (as the displacement command takes)', o.window);
       const maxValue = parseNumOpt('--saturation', o.saturation, 1e-12);
       requireFile('reference image', ref);
       if (meas) requireFile('measurement image', meas);
@@ -75,12 +60,15 @@ export function register(program: Command): void {
         log.json({ command: 'check', referenceFile: ref, dotImageDiameterPx: r.dotDiameterPx, ...r });
       } else {
         const b = await loadGrey(meas);
-        const disp = a.width === b.width && a.height === b.height ? await singlePass(a, b, windowPx) : undefined;
+        // a single plain correlation pass, for the weak-peak fraction (sizes are checked by diagnosePair)
+        const disp = a.width === b.width && a.height === b.height && a.width >= windowPx && a.height >= windowPx
+          ? await measureDisplacement(a, b, { windowPx, passes: 1 })
+          : undefined;
         const p = diagnosePair(a, b, { ...opts, ...(disp ? { displacement: disp } : {}) });
         show(log, `${ref} (reference): ${p.reference.width} × ${p.reference.height} px`, p.reference.findings);
         show(log, `${meas} (measurement)`, p.measurement.findings);
         show(log, 'pair', p.findings);
-        if (!disp) log.info('note: weak-peak fraction not computed (no correlation stage in this build)');
+        if (!disp) log.info(`note: weak-peak fraction not computed (images smaller than one ${windowPx} px window, or of different sizes)`);
         usable = p.usable;
         log.json({ command: 'check', referenceFile: ref, measurementFile: meas, dotImageDiameterPx: p.reference.dotDiameterPx, ...p });
       }
