@@ -3,7 +3,6 @@ import { mkdtempSync, writeFileSync, readFileSync, existsSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
-import * as core from '@rhofield/core';
 import { run } from '../../packages/cli/src/main.js';
 import { renderTestDots } from '../diagnose/renderTestDots.js';
 
@@ -81,6 +80,9 @@ describe('rhofield pattern', () => {
     const out = path.join(dir, 'bad.svg');
     const cases: Array<[string[], RegExp]> = [
       [['--width', '297', '--height', '210mm', '--dot', '0.6mm'], /unit/],
+      [['--width', '297mm', '--height', '210mm', '--dot', '0.6'], /unit.*--dot/],
+      [['--width', '-3mm', '--height', '210mm', '--dot', '0.6mm'], /positive.*--width/],
+      [['--width', '297mm', '--height', '210mm', '--dot', '0.6mm', '--fill', '-0.1'], /fill/],
       [['--width', '-297mm', '--height', '210mm', '--dot', '0.6mm'], /positive/],
       [['--width', '297mm', '--height', '210mm', '--dot', '0.6mm', '--fill', '0.6'], /jam near 0\.55/],
       [['--width', '297mm', '--height', '210mm', '--dot', '0.6mm', '--fill', '0'], /fill/],
@@ -99,25 +101,98 @@ describe('rhofield pattern', () => {
   });
 });
 
-const hasLoader = typeof (core as unknown as Record<string, unknown>)['loadImage'] === 'function';
+/**
+ * `rhofield check` on images written to disk. Ground truth: the independent test renderer
+ * (tests/diagnose/renderTestDots.ts) draws Gaussian dots of known e⁻² diameter D = 4σ integrated over
+ * pixels; the estimator fits the autocorrelation peak width (Adrian & Westerweel 2011 convention).
+ */
+async function writePng16(f: { width: number; height: number; data: Float32Array }, file: string): Promise<void> {
+  const u16 = new Uint16Array(f.data.length);
+  for (let i = 0; i < u16.length; i++) u16[i] = Math.max(0, Math.min(65535, Math.round(f.data[i]!)));
+  await sharp(u16, { raw: { width: f.width, height: f.height, channels: 1 } }).toColourspace('grey16').png().toFile(file);
+}
 
-describe.skipIf(!hasLoader)('rhofield check (needs the image stage)', () => {
+describe('rhofield check', () => {
   const ref = path.join(dir, 'ref.png');
+  const dots = (D: number, seed: number, extra: Record<string, unknown> = {}) =>
+    renderTestDots({ width: 192, height: 160, diameterPx: D, density: 0.4 / ((Math.PI * D * D) / 4), seed, noise: 200, background: 8000, peak: 20000, ...extra });
   beforeAll(async () => {
-    const f = renderTestDots({ width: 160, height: 128, diameterPx: 3, density: 0.4 / ((Math.PI * 9) / 4), seed: 8, noise: 200, background: 8000, peak: 20000 });
-    const u16 = new Uint16Array(f.data.length);
-    for (let i = 0; i < u16.length; i++) u16[i] = Math.max(1, Math.min(65534, Math.round(f.data[i]!)));
-    await sharp(u16, { raw: { width: f.width, height: f.height, channels: 1 } }).toColourspace('grey16').png().toFile(ref);
+    await writePng16(dots(3, 8), ref);
     writeFileSync(path.join(dir, 'notimage.png'), 'this is not an image');
   });
-  it('--json reports the e⁻² dot image diameter (3 px rendered) within 10 %, exit 0', async () => {
-    const r = await cli('check', ref, '--json');
-    expect(r.code).toBe(0);
+  for (const D of [2, 3, 4, 5, 6]) {
+    it(`--json: e⁻² dot image diameter of rendered ${D} px dots within 10 %, key containing "diameter" in px, exit 0`, async () => {
+      const file = path.join(dir, `dots${D}.png`);
+      await writePng16(dots(D, 30 + D), file);
+      const r = await cli('check', file, '--json');
+      expect(r.code, r.err).toBe(0);
+      const j = JSON.parse(r.out);
+      const key = Object.keys(j).find((k) => /diameter/i.test(k) && /px/i.test(k))!;
+      expect(key).toBeDefined();
+      expect(Math.abs(j[key] / D - 1), `${key} = ${j[key]} for D = ${D}`).toBeLessThan(0.1);
+      expect(r.err).toMatch(/→/); // every finding carries an advice line
+    });
+  }
+  it('a pair: global shift and weak-peak fraction from a real correlation pass, exit 0', async () => {
+    const meas = path.join(dir, 'meas.png');
+    await writePng16(dots(3, 8, { shiftX: 1.5, shiftY: -0.5 }), meas);
+    const r = await cli('check', ref, meas, '--json', '--window', '32');
+    expect(r.code, r.err).toBe(0);
     const j = JSON.parse(r.out);
-    const key = Object.keys(j).find((k) => /diameter/i.test(k))!;
-    expect(Math.abs(j[key] / 3 - 1)).toBeLessThan(0.1);
+    expect(Math.abs(j.shift.dxPx - 1.5)).toBeLessThan(0.1);
+    expect(Math.abs(j.shift.dyPx + 0.5)).toBeLessThan(0.1);
+    expect(j.weakPeakFraction).not.toBeNull();
+    expect(j.weakPeakFraction).toBeLessThan(0.1);
   });
-  it('a file that is not an image → exit 2', async () => {
-    expect((await cli('check', path.join(dir, 'notimage.png'))).code).toBe(2);
+  it('a textureless image → exit 3 (unusable)', async () => {
+    const flat = path.join(dir, 'flat.png');
+    const f = renderTestDots({ width: 96, height: 96, diameterPx: 3, density: 0, seed: 1, noise: 2, background: 9000 });
+    await writePng16(f, flat);
+    const r = await cli('check', flat);
+    expect(r.code).toBe(3);
+    expect(r.err).toMatch(/UNUSABLE/);
+  });
+  it('usage errors → exit 2 with one line: not an image, missing file, --window outside 16–128 or not a power of two', async () => {
+    const cases: string[][] = [
+      [path.join(dir, 'notimage.png')],
+      [path.join(dir, 'missing.png')],
+      [ref, '--window', '8'],
+      [ref, '--window', '256'],
+      [ref, '--window', '24'],
+      [ref, '--saturation', 'lots'],
+    ];
+    for (const args of cases) {
+      const r = await cli('check', ...args);
+      expect(r.code, args.join(' ')).toBe(2);
+      expect(r.err.trim().split('\n').length, r.err).toBe(1);
+    }
+  });
+  it('a 32-bit float TIFF (no defined grey scale) → exit 2', async () => {
+    // minimal baseline TIFF (TIFF 6.0, Adobe 1992): little-endian, one strip, SampleFormat 3 = IEEE float
+    const W = 16, H = 16, n = 10, ifd = 8, data = ifd + 2 + n * 12 + 4;
+    const b = Buffer.alloc(data + W * H * 4);
+    b.write('II', 0, 'latin1');
+    b.writeUInt16LE(42, 2);
+    b.writeUInt32LE(ifd, 4);
+    b.writeUInt16LE(n, ifd);
+    const tags: Array<[number, number, number]> = [
+      [256, 3, W], [257, 3, H], [258, 3, 32], [259, 3, 1], [262, 3, 1],
+      [273, 4, data], [277, 3, 1], [278, 3, H], [279, 4, W * H * 4], [339, 3, 3],
+    ];
+    tags.forEach(([tag, type, v], k) => {
+      const o = ifd + 2 + 12 * k;
+      b.writeUInt16LE(tag, o);
+      b.writeUInt16LE(type, o + 2);
+      b.writeUInt32LE(1, o + 4);
+      if (type === 3) b.writeUInt16LE(v, o + 8);
+      else b.writeUInt32LE(v, o + 8);
+    });
+    for (let i = 0; i < W * H; i++) b.writeFloatLE(((i * 7919) % 101) / 100, data + 4 * i);
+    const tif = path.join(dir, 'float.tif');
+    writeFileSync(tif, b);
+    const r = await cli('check', tif);
+    expect(r.code, r.err).toBe(2);
+    expect(r.err).toMatch(/16-bit/);
+    expect(r.err.trim().split('\n').length).toBe(1);
   });
 });

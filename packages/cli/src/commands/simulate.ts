@@ -11,6 +11,7 @@ import {
   createSimulationEngines,
   invalidParameter,
   loadSetup,
+  obliqueShockAngle,
   saveImage16,
   simulateSetup,
   type SimulationFieldKind,
@@ -139,6 +140,16 @@ ${EXIT_CODES_HELP}`,
       const mach = parseNumOpt('--mach', o.mach, 1.05, 10);
       const wedge = parseNumOpt('--wedge', o.wedge, 0.1, 45);
       if (field !== 'shock' && (mach !== undefined || wedge !== undefined)) throw invalidParameter(mach !== undefined ? '--mach' : '--wedge', 'only with --field shock', field);
+      if (field === 'shock') {
+        const M = mach ?? 2;
+        const th = wedge ?? 10;
+        try {
+          obliqueShockAngle(M, (th * Math.PI) / 180);
+        } catch (e) {
+          const det = /detachment angle ([\d.]+)°/.exec((e as Error).message)?.[1];
+          throw invalidParameter('--wedge', `a half-angle below the detachment angle${det ? ` ${det}°` : ''} for Mach ${M} (attached shocks)`, th);
+        }
+      }
       requireFile('setup file', o.setup);
       const setup = loadSetup(o.setup);
       if (!setup.expected) throw invalidParameter(`${o.setup}: expected`, 'an object {densityChange | temperatureChange, lengthScale} (the planner needs it)', undefined);
