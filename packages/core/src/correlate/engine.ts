@@ -54,8 +54,12 @@ export interface CorrelateTask {
   op: 'correlate';
   /** 'binned': the 2×2-binned images (grid and window in binned pixels). */
   source: 'original' | 'deformed' | 'binned';
-  /** 'fft': whole correlation plane; 'direct': lags ≤ 2 px with FFT fallback (deformed passes). */
-  method: 'fft' | 'direct';
+  /**
+   * 'fft': whole (circular) correlation plane of equal windows; 'direct': lags ≤ 2 px with FFT fallback
+   * (deformed passes); 'offset': FFT, then again with the measurement window moved by the whole-pixel
+   * displacement (discrete window offset; for a pass on undeformed images at the final window size).
+   */
+  method: 'fft' | 'direct' | 'offset';
   windowPx: number;
   cols: number;
   rows: number;
@@ -209,6 +213,12 @@ function correlateRows(img: EngineImages, t: CorrelateTask, r0: number, r1: numb
   const B = t.source === 'original' ? img.meas : t.source === 'binned' ? img.binMeas : img.defMeas;
   const width = t.source === 'binned' ? img.width >> 1 : img.width;
   const height = t.source === 'binned' ? img.height >> 1 : img.height;
+  if (t.method === 'offset') correlateRowsOffset(A, B, width, height, t, r0, r1);
+  else correlateRowsPlain(A, B, width, height, t, r0, r1);
+}
+
+/** FFT (or lag-limited direct) correlation of equal windows at the same place in A and B. */
+function correlateRowsPlain(A: Float32Array, B: Float32Array, width: number, height: number, t: CorrelateTask, r0: number, r1: number): void {
   const cor = correlator(t.windowPx);
   const dir = t.method === 'direct' ? direct(t.windowPx) : null;
   const { cols, out, active } = t;
@@ -237,4 +247,57 @@ function correlateRows(img: EngineImages, t: CorrelateTask, r0: number, r1: numb
     }
   }
   if (pending >= 0) cor.run(out, pending, -1);
+}
+
+const second: CorrelationOutputs = { dx: new Float32Array(2), dy: new Float32Array(2), correlation: new Float32Array(2), peakRatio: new Float32Array(2) };
+const offsets = new Int32Array(4);
+
+/**
+ * Discrete window offset (J. Westerweel, D. Dabiri & M. Gharib, "The effect of a discrete window offset on
+ * the accuracy of cross-correlation analysis of digital PIV recordings", Exp. Fluids 23:20–28, 1997;
+ * recalled from memory): each window pair is
+ * correlated as usual, then the measurement window is moved by the whole-pixel part of the result and
+ * the pair correlated again; the offset plus the second (sub-pixel) result is the displacement. The
+ * second correlation has no loss of pairs from the whole-pixel part of the displacement. Where the
+ * second peak is not within 1 px of lag 0 the first result stands.
+ */
+function correlateRowsOffset(A: Float32Array, B: Float32Array, width: number, height: number, t: CorrelateTask, r0: number, r1: number): void {
+  correlateRowsPlain(A, B, width, height, { ...t, method: 'fft' }, r0, r1);
+  const cor = correlator(t.windowPx);
+  const { cols, out, active } = t;
+  const slots: number[] = [];
+  const flush = (): void => {
+    cor.run(second, 0, slots.length > 1 ? 1 : -1);
+    for (let s = 0; s < slots.length; s++) {
+      const k = slots[s]!;
+      const ex = second.dx[s]!;
+      const ey = second.dy[s]!;
+      if (ex === ex && Math.abs(ex) <= 1 && Math.abs(ey) <= 1) {
+        out.dx[k] = offsets[2 * s]! + ex;
+        out.dy[k] = offsets[2 * s + 1]! + ey;
+        out.correlation[k] = second.correlation[s]!;
+        out.peakRatio[k] = second.peakRatio[s]!;
+      }
+    }
+    slots.length = 0;
+  };
+  for (let r = r0; r < r1; r++) {
+    const y0 = t.top + r * t.stepPx;
+    for (let c = 0; c < cols; c++) {
+      const k = c + r * cols;
+      const dx = out.dx[k]!;
+      if (!active[k] || !(dx === dx)) continue;
+      const ox = Math.round(dx);
+      const oy = Math.round(out.dy[k]!);
+      if (ox === 0 && oy === 0) continue;
+      const x0 = t.left + c * t.stepPx;
+      const slot = slots.length as 0 | 1;
+      if (cor.loadOffset(slot, A, B, width, height, x0, y0, ox, oy) < t.minPixels) continue;
+      offsets[2 * slot] = ox;
+      offsets[2 * slot + 1] = oy;
+      slots.push(k);
+      if (slots.length === 2) flush();
+    }
+  }
+  if (slots.length) flush();
 }

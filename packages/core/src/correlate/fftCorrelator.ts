@@ -100,6 +100,57 @@ export class FftWindowCorrelator {
     return na < nb ? na : nb;
   }
 
+  /**
+   * As {@link load}, with the measurement window moved by the whole pixels (ox, oy) (discrete window
+   * offset); measurement pixels outside the image count as missing. @returns the number of pixels
+   * finite in both windows.
+   */
+  loadOffset(slot: 0 | 1, A: Float32Array, B: Float32Array, width: number, height: number, x0: number, y0: number, ox: number, oy: number): number {
+    const n = this.n;
+    const z = this.z[slot];
+    let sa = 0;
+    let sb = 0;
+    let na = 0;
+    let nb = 0;
+    let both = 0;
+    for (let r = 0; r < n; r++) {
+      const yb = y0 + oy + r;
+      const inY = yb >= 0 && yb < height;
+      for (let c = 0; c < n; c++) {
+        const a = A[x0 + c + (y0 + r) * width]!;
+        const xb = x0 + ox + c;
+        const b = inY && xb >= 0 && xb < width ? B[xb + yb * width]! : NaN;
+        if (a === a) (sa += a), na++;
+        if (b === b) (sb += b), nb++;
+        if (a === a && b === b) both++;
+      }
+    }
+    const ma = na > 0 ? sa / na : 0;
+    const mb = nb > 0 ? sb / nb : 0;
+    let ea = 0;
+    let eb = 0;
+    let j = 0;
+    for (let r = 0; r < n; r++) {
+      const yb = y0 + oy + r;
+      const inY = yb >= 0 && yb < height;
+      for (let c = 0; c < n; c++, j += 2) {
+        const a = A[x0 + c + (y0 + r) * width]!;
+        const xb = x0 + ox + c;
+        const b = inY && xb >= 0 && xb < width ? B[xb + yb * width]! : NaN;
+        const va = a === a ? a - ma : 0;
+        const vb = b === b ? b - mb : 0;
+        z[j] = va;
+        z[j + 1] = vb;
+        ea += va * va;
+        eb += vb * vb;
+      }
+    }
+    this.energyA[slot] = ea;
+    this.energyB[slot] = eb;
+    this.loaded[slot] = 1;
+    return both;
+  }
+
   /** Mark a slot empty (odd number of windows). */
   clear(slot: 0 | 1): void {
     this.z[slot].fill(0);
@@ -139,12 +190,19 @@ export class FftWindowCorrelator {
    * (slot 1, ignored when −1) of the outputs. A window with zero energy gives NaN.
    */
   run(out: CorrelationOutputs, out0: number, out1: number): void {
+    this.correlatePlanes(out1 >= 0);
+    const n = this.n;
+    analysePeak(this.w, 0, n, this.energyA[0]! * this.energyB[0]!, out, out0);
+    if (out1 >= 0) analysePeak(this.w, 1, n, this.energyA[1]! * this.energyB[1]!, out, out1);
+  }
+
+  private correlatePlanes(two: boolean): void {
     const n = this.n;
     const z0 = this.z[0];
     const z1 = this.z[1];
     const w = this.w;
     this.fft2(z0, this.rowView[0]!, false);
-    if (out1 >= 0) this.fft2(z1, this.rowView[1]!, false);
+    if (two) this.fft2(z1, this.rowView[1]!, false);
     else z1.fill(0);
     const mask = n - 1;
     for (let ky = 0; ky < n; ky++) {
@@ -169,8 +227,6 @@ export class FftWindowCorrelator {
       }
     }
     this.fft2(w, this.rowView[2]!, true);
-    analysePeak(w, 0, n, this.energyA[0]! * this.energyB[0]!, out, out0);
-    if (out1 >= 0) analysePeak(w, 1, n, this.energyA[1]! * this.energyB[1]!, out, out1);
   }
 }
 

@@ -12,7 +12,11 @@
  *     x + p/2 (Lanczos-4 in the last pass, Keys cubic in earlier ones), and the correlation (lags
  *     ≤ 2 px directly, the FFT plane where the residual exceeds ½ px) measures the residual, which is
  *     added to the predictor at the window centre.
- * With passes = 2 both passes use W (the second deformed); passes = 1 is a single plain pass.
+ * With passes = 2 both passes use W (the second deformed); passes = 1 is a single pass on the recorded
+ * images. A pass on the recorded images at the final window size (passes 1–2) correlates each window
+ * pair twice: once as is, then with the measurement window moved by the whole-pixel result (discrete
+ * window offset: J. Westerweel, D. Dabiri & M. Gharib, Exp. Fluids 23:20–28, 1997, recalled from memory), which removes the loss of pairs of the whole-pixel
+ * part of the displacement.
  * Every pass ends with the normalized median test and replacement (Westerweel & Scarano 2005).
  *
  * Reference: F. Scarano, "Iterative image deformation methods in PIV", Measurement Science and
@@ -80,11 +84,15 @@ export function describeSchedule(o: ScheduleOptions = {}): string {
         } resampling, field interpolated to pixels by Keys cubic convolution); ${corr}, then added to the field at the window centre`
       : binned
         ? `${head}, FFT cross-correlation of the 2×2-binned images (${p.windowPx / 2} px binned windows): a cheap predictor`
-        : `${head}, FFT cross-correlation of the recorded images`;
+        : p.windowPx === (o.windowPx ?? 32)
+          ? `${head}, FFT cross-correlation of the recorded images, repeated with the measurement window moved by the whole-pixel result (discrete window offset)`
+          : `${head}, FFT cross-correlation of the recorded images`;
   });
   lines.push(
     `after every pass: normalized median test over the 8 neighbours (threshold ${thr}, ε = ${eps} px); outliers replaced by the neighbour median` +
-      (o.medianKeepPeakRatio !== undefined && o.medianKeepPeakRatio < Infinity ? ` unless their peak ratio is ≥ ${o.medianKeepPeakRatio}` : ''),
+      ((o.medianKeepPeakRatio ?? 3) < Infinity
+        ? ` unless their peak ratio (whole FFT correlation plane) is ≥ ${o.medianKeepPeakRatio ?? 3}`
+        : ' (every flagged vector, as published)'),
     'sub-pixel peak: three-point Gaussian fit (parabolic when a neighbour ≤ 0) after undoing the loss-of-pairs weighting; peak ratio = primary / highest other local maximum outside the 3×3 neighbourhood' +
       ((o.refine ?? 'direct') === 'direct' ? ' (for lag-limited vectors: / highest value at lag distance 2)' : ''),
   );
