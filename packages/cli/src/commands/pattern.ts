@@ -17,7 +17,7 @@ import {
   MAX_PNG_PIXELS,
   RhofieldError,
 } from '@rhofield/core';
-import { Log, parseIntOpt, parseNumOpt, writeFileAtomic } from '../common.js';
+import { EXIT_CODES_HELP, Log, parseIntOpt, parseNumOpt, writeFileAtomic } from '../common.js';
 
 interface PatternOpts {
   width?: string;
@@ -50,6 +50,7 @@ export function register(program: Command): void {
     .option('--json', 'print a JSON summary on stdout')
     .option('--quiet', 'no messages on stderr')
     .option('--verbose', 'more detail on errors')
+    .addHelpText('after', EXIT_CODES_HELP)
     .action(async (o: PatternOpts) => {
       const log = new Log(o);
       if (!o.out) throw invalidParameter('--out', 'an output file ending in .pdf, .svg or .png', o.out);

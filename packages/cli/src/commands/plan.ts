@@ -4,7 +4,7 @@
  */
 import type { Command } from 'commander';
 import { formatPlan, loadSetup, planSetup } from '@rhofield/core';
-import { Log, parseNumOpt } from '../common.js';
+import { EXIT_CODES_HELP, Log, parseNumOpt, requireFile } from '../common.js';
 
 /** Safety caution shown in --help of commands that plan or imitate real experiments. */
 export const SAFETY_HELP = `
@@ -32,14 +32,19 @@ export function register(program: Command): void {
     .option('--quiet', 'no table on stderr')
     .option('--verbose', 'more detail on errors')
     .option('--force', 'accepted for uniformity; plan writes no files')
-    .addHelpText('after', SAFETY_HELP)
+    .addHelpText('after', `${SAFETY_HELP}\n${EXIT_CODES_HELP}`)
     .action((o: PlanOpts) => {
       const log = new Log(o);
       const noisePx = parseNumOpt('--noise', o.noise, 1e-6, 100);
       const fill = parseNumOpt('--fill', o.fill, 1e-6, 0.5);
+      requireFile('setup file', o.setup);
       const setup = loadSetup(o.setup);
       const pl = planSetup(setup, { ...(noisePx !== undefined ? { noisePx } : {}), ...(fill !== undefined ? { fill } : {}) });
       log.info(formatPlan(pl).trimEnd());
+      // hot plumes and flames: one caution line (ΔT ≥ 100 K is flame or hot-surface territory)
+      if (pl.temperatureChange !== null && Math.abs(pl.temperatureChange) >= 100) {
+        log.info('caution: flames and hot surfaces: follow local codes and your facility\'s rules (see --help)');
+      }
       log.json({ command: 'plan', setup: o.setup, ...pl });
     });
 }

@@ -179,7 +179,13 @@ ${EXIT_CODES_HELP}`,
         }
         log.info(table(r, sizePx));
         for (const w of warnings(r)) log.warn(w);
-        if (field === 'shock') log.info('note: the planner models a Gaussian disturbance; for the shock compare true and measured only');
+        if (field === 'shock') {
+          log.info('note: the planner models a Gaussian disturbance; for the shock compare true and measured only');
+          log.info('caution: supersonic and pressurised facilities: follow the facility\'s rules and local codes (see --help)');
+        }
+        log.debug(`plan verdict: ${r.plan.verdict}; advice: ${r.plan.advice}`);
+        const c = (r.displacement as { counts?: Record<string, number> }).counts;
+        if (c) log.debug(`vectors: ${c['valid']} valid, ${c['replaced']} replaced, ${c['masked']} masked, ${c['failed']} failed`);
         if (o.out) log.info(`images and result.json in ${o.out}`);
         log.json(s);
       } catch (e) {
