@@ -144,6 +144,14 @@ describe('rhofield check', () => {
     expect(j.weakPeakFraction).not.toBeNull();
     expect(j.weakPeakFraction).toBeLessThan(0.1);
   });
+  it('1.5 px dots: a peak-locking warning with advice, still exit 0', async () => {
+    const small = path.join(dir, 'small.png');
+    await writePng16(dots(1.5, 12), small);
+    const r = await cli('check', small);
+    expect(r.code, r.err).toBe(0);
+    expect(r.err).toMatch(/warn.*peak locking/);
+    expect(r.err).toMatch(/verdict: usable/);
+  });
   it('a textureless image → exit 3 (unusable)', async () => {
     const flat = path.join(dir, 'flat.png');
     const f = renderTestDots({ width: 96, height: 96, diameterPx: 3, density: 0, seed: 1, noise: 2, background: 9000 });
