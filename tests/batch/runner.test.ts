@@ -75,6 +75,20 @@ describe('runBatch (fake processor)', () => {
     expect(load(path.join(out, 'statistics/density_mean.npy')).shape).toEqual([6, 5]);
   });
 
+  it('writes the statistics in the run\'s other formats too (here csv): the same values as float32', async () => {
+    const out = tmp();
+    const jobs = jobsOf(4);
+    await runBatch({ ...plan(out, jobs), settings: { windowPx: 32, formats: ['npy', 'csv'] } }, inProcessExecutor(processPair), { probe });
+    const lines = readFileSync(path.join(out, 'statistics/statistics.csv'), 'utf8').trim().split('\n');
+    const head = lines[0]!.split(',');
+    expect(head).toEqual(['x_px', 'y_px', 'dx_mean_px', 'dy_mean_px', 'dx_std_px', 'dy_std_px', 'displacement_count', 'rho_mean_kgm3', 'rho_std_kgm3', 'density_count']);
+    expect(lines).toHaveLength(1 + 6 * 5);
+    const mean = load(path.join(out, 'statistics/displacement_mean.npy')).data;
+    const csvDx = lines.slice(1).map((l) => Number(l.split(',')[2]));
+    const npyDx = Array.from({ length: 30 }, (_, i) => mean[2 * i]!);
+    expectClose(csvDx, npyDx.map((v) => Math.fround(v)), 1e-6, 'csv dx_mean');
+  });
+
   it('a rerun skips finished pairs and redoes partial ones (leftover staging folder, folder without pair.json)', async () => {
     const out = tmp();
     const jobs = jobsOf(6);
@@ -105,6 +119,13 @@ describe('runBatch (fake processor)', () => {
     const junk = tmp();
     writeFileSync(path.join(junk, 'notes.txt'), 'x');
     await expect(runBatch(plan(junk, jobs), inProcessExecutor(processPair), { probe })).rejects.toThrow(/not a batch folder/);
+    // ... even with --force, which only ever deletes a batch's own entries
+    await expect(runBatch({ ...plan(junk, jobs), force: true }, inProcessExecutor(processPair), { probe })).rejects.toThrow(/not a batch folder/);
+    expect(readFileSync(path.join(junk, 'notes.txt'), 'utf8')).toBe('x');
+    // a user's file inside a batch folder survives --force
+    writeFileSync(path.join(out, 'notes.txt'), 'keep');
+    await runBatch({ ...plan(out, jobs), force: true }, inProcessExecutor(processPair), { probe });
+    expect(readFileSync(path.join(out, 'notes.txt'), 'utf8')).toBe('keep');
   });
 
   it('a failing pair and an odd-sized frame are recorded with their errors; the rest go on; a rerun retries them', async () => {

@@ -27,6 +27,14 @@ export const layout = {
   logs: (dir: string) => path.join(dir, 'logs'),
 };
 
+/**
+ * True for the names a batch writes at the top of its folder (including temporaries of killed runs):
+ * the only entries `--force` deletes.
+ */
+export function isBatchEntry(name: string): boolean {
+  return /^(run\.json(\.tmp-.*)?|pairs|failed|statistics(\.partial-.*|\.old-.*)?|shards)$/.test(name);
+}
+
 /** True if the error means the file system is full or read-only: no later pair can succeed either. */
 export function isStorageFull(err: unknown): boolean {
   const code = (err as NodeJS.ErrnoException | undefined)?.code;

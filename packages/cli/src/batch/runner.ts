@@ -15,7 +15,7 @@ import { createHash } from 'node:crypto';
 import { existsSync, promises as fsp } from 'node:fs';
 import path from 'node:path';
 import { RhofieldError, selectShard, settingsHash as hashSettings, type PairJob, type ShardSpec } from '@rhofield/core';
-import { isStorageFull, layout, writeAtomic } from './folders.js';
+import { isBatchEntry, isStorageFull, layout, writeAtomic } from './folders.js';
 import { accumulatePairs, mergePartials, writePartial, writeStatistics } from './statistics.js';
 import type { ImageProbe, PairExecutor, PairSummaryLike, ProbeFn } from './types.js';
 
@@ -83,13 +83,17 @@ export async function claimFolder(dir: string, settings: Record<string, unknown>
     const entries = (await fsp.readdir(dir)).filter((e) => e !== 'logs');
     const existing = existsSync(mf) ? (JSON.parse(await fsp.readFile(mf, 'utf8')) as Partial<Manifest>) : null;
     const same = existing?.kind === 'rhofield-batch' && existing.settingsHash === hash;
+    if (entries.length > 0 && !existing) {
+      // even with --force: only a batch folder's own entries are ever deleted
+      throw new RhofieldError('usage', `--out ${dir} is not empty and is not a batch folder (no run.json); choose another folder (--force only replaces an earlier batch's results)`);
+    }
     if (force && entries.length > 0) {
       if (shard) {
         throw new RhofieldError('usage', `--force with --shard (or inside a job array) would delete other shards' results; remove ${dir} before submitting, or drop --force`);
       }
-      for (const e of entries) await fsp.rm(path.join(dir, e), { recursive: true, force: true });
-    } else if (entries.length > 0 && !existing) {
-      throw new RhofieldError('usage', `--out ${dir} is not empty and is not a batch folder (no run.json); choose another folder or pass --force to discard its contents`);
+      // the batch's own entries only (see folders.ts), run.json last so that a killed --force stays a batch folder
+      for (const e of entries) if (isBatchEntry(e) && e !== 'run.json') await fsp.rm(path.join(dir, e), { recursive: true, force: true });
+      await fsp.rm(mf, { force: true });
     } else if (existing && !same) {
       throw new RhofieldError(
         'usage',
@@ -117,6 +121,12 @@ export async function claimFolder(dir: string, settings: Record<string, unknown>
   return hash;
 }
 
+/** The result formats recorded in a run's settings (statistics are written in the same ones). */
+function formatsOf(settings: Record<string, unknown> | undefined): string[] {
+  const f = settings?.['formats'];
+  return Array.isArray(f) && f.every((x) => typeof x === 'string') ? (f as string[]) : ['npy'];
+}
+
 function errorText(e: unknown): string {
   return (e instanceof Error ? e.message : String(e)).split('\n')[0] ?? 'unknown error';
 }
@@ -137,17 +147,24 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
   const first = plan.jobs[0];
   const runSize: ImageProbe | null = first ? await hooks.probe(first.refPath, first.refPage) : null;
 
-  const existing = new Set(await fsp.readdir(pairsDir));
+  // leftovers of a killed run, by pair id: staging folders (.<id>.partial-<tag>) and final folders without pair.json
+  const entries = await fsp.readdir(pairsDir);
+  const existing = new Set(entries);
+  const leftovers = new Map<string, string[]>();
+  for (const name of entries) {
+    const cut = name.startsWith('.') ? name.lastIndexOf('.partial-') : -1;
+    if (cut > 0) {
+      const id = name.slice(1, cut);
+      leftovers.set(id, [...(leftovers.get(id) ?? []), name]);
+    }
+  }
   const todo: PairJob[] = [];
   for (const j of mine) {
     if (existing.has(j.id) && existsSync(layout.pairRecord(dir, j.id))) continue;
     todo.push(j);
-    // leftovers of a killed run for this pair: a partial staging folder, or a final folder without record
-    for (const name of existing) {
-      if (name.startsWith(layout.stagingPrefix(j.id)) || name === j.id) {
-        hooks.debug?.(`removing unfinished ${name}`);
-        await fsp.rm(path.join(pairsDir, name), { recursive: true, force: true });
-      }
+    for (const name of [...(leftovers.get(j.id) ?? []), ...(existing.has(j.id) ? [j.id] : [])]) {
+      hooks.debug?.(`removing unfinished ${name}`);
+      await fsp.rm(path.join(pairsDir, name), { recursive: true, force: true });
     }
   }
   const skipped = mine.length - todo.length;
@@ -230,7 +247,7 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
         await writePartial(dir, acc, { shard: plan.shard, settingsHash: hash, jobsHash: jHash, pairsTotal: mine.length, failed: failedIds });
         statistics = { folder: layout.shard(dir, plan.shard.index, plan.shard.count), pairsUsed: acc?.pairIds.length ?? 0 };
       } else if (acc) {
-        await writeStatistics(dir, acc, { settingsHash: hash, jobsHash: jHash, pairsTotal: mine.length, pairsUsed: acc.pairIds.length, failed: failedIds });
+        await writeStatistics(dir, acc, { settingsHash: hash, jobsHash: jHash, pairsTotal: mine.length, pairsUsed: acc.pairIds.length, failed: failedIds }, formatsOf(plan.settings));
         statistics = { folder: layout.statistics(dir), pairsUsed: acc.pairIds.length };
       }
     } catch (e) {
@@ -283,6 +300,6 @@ export async function mergeBatch(outDir: string): Promise<MergeResult> {
     pairsUsed: acc.pairIds.length,
     shards: infos.length,
     failed,
-  });
+  }, formatsOf(manifest.settings));
   return { shards: infos.length, pairsTotal, pairsUsed: acc.pairIds.length, failed, folder: layout.statistics(dir), files };
 }

@@ -17,6 +17,11 @@ import {
   encodeNpy,
   finalizeStatistics,
   inputError,
+  parseFormats,
+  writeFieldSet,
+  type FieldSet,
+  type FieldSetField,
+  type FieldSetGrid,
   type RunningStatistics,
 } from '@rhofield/core';
 import { layout, replaceDir, writeAtomic } from './folders.js';
@@ -101,12 +106,67 @@ export interface StatisticsInfo {
   readonly failed: string[];
 }
 
+/** Grid coordinates of the run, from the first pair's displacement_x_px/y_px(/x_m/y_m).npy; indices if absent. */
+async function readGrid(dir: string, firstId: string | undefined, rows: number, cols: number): Promise<{ grid: FieldSetGrid; fromPairs: boolean }> {
+  const pdir = firstId !== undefined ? layout.pair(dir, firstId) : '';
+  const vec = async (name: string, n: number): Promise<Float64Array | undefined> => {
+    const f = path.join(pdir, `displacement_${name}.npy`);
+    if (!pdir || !existsSync(f)) return undefined;
+    const a = await readNpy(f);
+    return a.data.length === n ? Float64Array.from(a.data) : undefined;
+  };
+  const [xPx, yPx, xM, yM] = await Promise.all([vec('x_px', cols), vec('y_px', rows), vec('x_m', cols), vec('y_m', rows)]);
+  if (!xPx || !yPx) {
+    return { grid: { xPx: Float64Array.from({ length: cols }, (_, i) => i), yPx: Float64Array.from({ length: rows }, (_, i) => i) }, fromPairs: false };
+  }
+  return { grid: { xPx, yPx, ...(xM && yM ? { xM, yM } : {}) }, fromPairs: true };
+}
+
+/** The statistics as a field set (float32 copies, for the h5/vti/mat/csv/png/svg writers). */
+function statisticsFieldSet(acc: BatchAccumulators, grid: FieldSetGrid, info: StatisticsInfo): FieldSet {
+  const { rows, cols } = acc;
+  const field = (name: string, units: string, description: string, values: ArrayLike<number>, colormap?: FieldSetField['colormap']): FieldSetField => ({
+    name,
+    units,
+    description,
+    data: { width: cols, height: rows, data: Float32Array.from(values as ArrayLike<number>) },
+    ...(colormap ? { colormap } : {}),
+  });
+  const fx = finalizeStatistics(acc.dx);
+  const fy = finalizeStatistics(acc.dy);
+  const fields: FieldSetField[] = [
+    field('dx_mean', 'px', 'mean displacement x (right)', fx.mean),
+    field('dy_mean', 'px', 'mean displacement y (down)', fy.mean),
+    field('dx_std', 'px', 'standard deviation of displacement x', fx.std, 'sequential'),
+    field('dy_std', 'px', 'standard deviation of displacement y', fy.std, 'sequential'),
+    field('displacement_count', '1', 'number of pairs with a valid vector', fx.count, 'sequential'),
+  ];
+  if (acc.density) {
+    const fd = finalizeStatistics(acc.density);
+    fields.push(
+      field('rho_mean', 'kg/m^3', 'mean density', fd.mean, 'sequential'),
+      field('rho_std', 'kg/m^3', 'standard deviation of density', fd.std, 'sequential'),
+      field('density_count', '1', 'number of pairs with a density value', fd.count, 'sequential'),
+    );
+  }
+  return {
+    grid,
+    fields,
+    vectors: [{ name: 'displacement_mean', x: 'dx_mean', y: 'dy_mean', frame: 'image' }],
+    title: 'batch statistics',
+    attributes: { pairsUsed: info.pairsUsed, pairsTotal: info.pairsTotal, settingsHash: info.settingsHash },
+  };
+}
+
 /**
  * Write DIR/statistics (replacing any previous one as a whole): displacement_mean/std (rows×cols×2,
- * float64), displacement_count (rows×cols, uint32), density_mean/std/count likewise, statistics.json.
+ * float64), displacement_count (rows×cols, uint32), density_mean/std/count likewise, the grid
+ * (statistics_x_px/y_px[/x_m/y_m].npy, float64, when the pairs have them), statistics.json,
+ * and the same fields in the run's other formats (`formats` minus npy: statistics.h5/.csv/.vti/.mat,
+ * statistics_<field>.png/.svg; float32 there, the .npy files are the float64 originals).
  * The standard deviation is the sample one (n − 1); NaN where fewer than 2 valid samples.
  */
-export async function writeStatistics(dir: string, acc: BatchAccumulators, info: StatisticsInfo): Promise<string[]> {
+export async function writeStatistics(dir: string, acc: BatchAccumulators, info: StatisticsInfo, formats: readonly string[] = ['npy']): Promise<string[]> {
   const target = layout.statistics(dir);
   const stage = `${target}.partial-${process.pid}-${Date.now()}`;
   await fsp.mkdir(stage, { recursive: true });
@@ -125,21 +185,37 @@ export async function writeStatistics(dir: string, acc: BatchAccumulators, info:
       files['density_std.npy'] = encodeNpy(fd.std, [rows, cols]);
       files['density_count.npy'] = encodeNpy(fd.count, [rows, cols]);
     }
+    const { grid, fromPairs } = await readGrid(dir, acc.pairIds[0], rows, cols);
+    if (fromPairs) {
+      files['statistics_x_px.npy'] = encodeNpy(grid.xPx, [cols]);
+      files['statistics_y_px.npy'] = encodeNpy(grid.yPx, [rows]);
+      if (grid.xM && grid.yM) {
+        files['statistics_x_m.npy'] = encodeNpy(grid.xM, [cols]);
+        files['statistics_y_m.npy'] = encodeNpy(grid.yM, [rows]);
+      }
+    }
     for (const [name, bytes] of Object.entries(files)) await fsp.writeFile(path.join(stage, name), bytes);
+    const written = Object.keys(files);
+    const others = parseFormats(formats.join(',')).filter((f) => f !== 'npy');
+    if (others.length) {
+      const out = await writeFieldSet(stage, 'statistics', statisticsFieldSet(acc, grid, info), others, { figure: { vectors: 'displacement_mean' } });
+      for (const f of out) written.push(path.basename(f.path));
+    }
     const meta = {
       ...info,
-      grid: { rows, cols },
+      grid: { rows, cols, coordinates: fromPairs ? `from pairs/${acc.pairIds[0]}` : 'row/column indices (no grid files in the pairs)' },
       pairIds: acc.pairIds,
       definitions: {
         mean: 'per-point mean over the pairs with a finite value there (float64, frame order)',
         std: 'per-point sample standard deviation (denominator count - 1); NaN where count < 2',
         count: 'per-point number of pairs with a valid value (displacement: both components finite)',
         displacement: 'measured minus reference, +x right, +y down, pixels; last axis = (x, y)',
+        files: '*.npy here are float64 (counts uint32); statistics.* in other formats hold float32 copies',
       },
     };
     await fsp.writeFile(path.join(stage, 'statistics.json'), JSON.stringify(meta, null, 2) + '\n');
     await replaceDir(stage, target);
-    return Object.keys(files).concat('statistics.json');
+    return written.concat('statistics.json');
   } catch (e) {
     await fsp.rm(stage, { recursive: true, force: true });
     throw e;

@@ -22,6 +22,7 @@ import {
 } from '@rhofield/core';
 import { EXIT, Log, parseIntOpt, provenance, sha256File, writeFileAtomic } from '../common.js';
 import { DEFAULT_FORMATS } from '../pipeline.js';
+import { pairOptionsFromCli } from './displacement.js';
 import { resolveFrames } from '../batch/frames.js';
 import { jobScript } from '../batch/jobScript.js';
 import { createPairPool, defaultWorkerCount } from '../batch/pool.js';
@@ -58,15 +59,6 @@ const DEFAULTS = { windowPx: 32, passes: 3, formats: DEFAULT_FORMATS.split(',') 
 /** The CLI entry of the bin shim, used in emitted job scripts. */
 const BIN = new URL('../../bin/rhofield.js', import.meta.url).pathname;
 
-function parseRegion(raw: string | undefined): [number, number, number, number] | undefined {
-  if (raw === undefined) return undefined;
-  const v = raw.split(',').map((s) => Number(s.trim()));
-  if (v.length !== 4 || v.some((x) => !Number.isInteger(x) || x < 0) || v[2]! <= v[0]! || v[3]! <= v[1]!) {
-    throw invalidParameter('--flow-free', 'x0,y0,x1,y1 in whole pixels with x1 > x0 and y1 > y0', raw);
-  }
-  return v as [number, number, number, number];
-}
-
 function parseFormats(raw: string | undefined): string[] {
   if (raw === undefined) return DEFAULTS.formats;
   const list = raw.split(',').map((s) => s.trim().toLowerCase()).filter(Boolean).map((s) => (s === 'hdf5' ? 'h5' : s));
@@ -77,11 +69,20 @@ function parseFormats(raw: string | undefined): string[] {
 
 /** Build the job list and the settings from the options (shared by the run and --emit-job-script). */
 async function planFromOptions(o: BatchOpts, log: Log) {
-  const windowPx = parseIntOpt('--window', o.window, 8, 1024) ?? DEFAULTS.windowPx;
-  const stepPx = parseIntOpt('--step', o.step, 1, 1024) ?? Math.max(1, Math.floor(windowPx / 2));
-  const passes = parseIntOpt('--passes', o.passes, 1, 8) ?? DEFAULTS.passes;
-  const flowFreeRegionPx = parseRegion(o.flowFree);
+  // the options of `rhofield displacement` / `density`, checked by the same code (threads: one per pair)
   const formats = parseFormats(o.format);
+  const shared = pairOptionsFromCli({
+    out: o.out,
+    ...(o.window !== undefined ? { window: o.window } : {}),
+    ...(o.step !== undefined ? { step: o.step } : {}),
+    ...(o.passes !== undefined ? { passes: o.passes } : {}),
+    ...(o.mask !== undefined ? { mask: o.mask } : {}),
+    ...(o.flowFree !== undefined ? { flowFree: o.flowFree } : {}),
+  });
+  const windowPx = shared.windowPx ?? DEFAULTS.windowPx;
+  const stepPx = shared.stepPx ?? Math.max(1, Math.floor(windowPx / 2));
+  const passes = shared.passes ?? DEFAULTS.passes;
+  const flowFreeRegionPx = shared.flowFreeRegionPx;
   const range = o.range !== undefined ? parseFrameRange(o.range) : undefined;
   if (o.pairing !== undefined && !(PAIRING_MODES as readonly string[]).includes(o.pairing)) {
     throw invalidParameter('--pairing', `one of ${PAIRING_MODES.join(', ')}`, o.pairing);
@@ -99,7 +100,10 @@ async function planFromOptions(o: BatchOpts, log: Log) {
     refs = await resolveFrames('--reference', o.reference, undefined, probeImage, true);
     mode = (o.pairing as PairingMode | undefined) ?? (refs.kind === 'file' ? 'single' : 'per-frame');
     if (mode === 'per-frame' && refs.kind !== 'file' && range) refs = await resolveFrames('--reference', o.reference, range, probeImage, true);
-    if (mode === 'single' && refs.frames.length > 1) refs = { ...refs, frames: refs.frames.slice(0, 1) };
+    if (mode === 'single' && refs.frames.length > 1) {
+      log.warn(`--pairing single: --reference ${o.reference} matches ${refs.frames.length} images; using the first, ${refs.frames[0]!.path}${refs.frames[0]!.page !== undefined ? ` page ${refs.frames[0]!.page}` : ''}`);
+      refs = { ...refs, frames: refs.frames.slice(0, 1) };
+    }
   }
   const jobs: PairJob[] = pairFrames(mode, frames.frames, refs?.frames ?? []);
 
@@ -289,9 +293,9 @@ export function register(program: Command): void {
     .option('--pairing <mode>', `single (one reference), per-frame, or consecutive (frame i vs i+1); default from --reference, consecutive without it`)
     .option('--range <first:last[:step]>', 'frames to use, inclusive: %d numbers, stack pages (from 0) or positions in the sorted wildcard matches (from 0)')
     .option('--setup <file>', 'setup file (JSON, DESIGN §3a): also compute density; without it, displacement only')
-    .option('--window <px>', `interrogation window size, px (default ${DEFAULTS.windowPx})`)
+    .option('--window <px>', `final interrogation window side, px (power of two, 16–128; default ${DEFAULTS.windowPx})`)
     .option('--step <px>', 'grid spacing between window centres, px (default window/2)')
-    .option('--passes <n>', `correlation passes with window deformation (default ${DEFAULTS.passes})`)
+    .option('--passes <n>', `number of correlation passes, 1–12 (default ${DEFAULTS.passes}; schedule: rhofield displacement --help)`)
     .option('--mask <file>', 'mask image: non-zero pixels are measured, zero pixels ignored')
     .option('--flow-free <x0,y0,x1,y1>', 'region without flow (px) used to remove camera shake')
     .option('--format <list>', `result formats per pair, comma list of ${FORMATS.join(', ')} (default ${DEFAULTS.formats.join(',')}; npy is always written)`)
