@@ -20,7 +20,7 @@ function demo(out: string): string[] {
 
 describe('progress bar', () => {
   it.skipIf(!hasScript)('is drawn on a terminal, and not when CI=true', () => {
-    const env = { ...process.env, RHOFIELD_PROGRESS_DELAY_MS: '0' };
+    const env: NodeJS.ProcessEnv = { ...process.env, RHOFIELD_PROGRESS_DELAY_MS: '0' };
     delete env['CI'];
     const tty = spawnSync('/usr/bin/script', ['-qec', demo(path.join(tmp, 'a')).join(' '), '/dev/null'], { cwd: root, env, encoding: 'utf8', timeout: 100_000 });
     expect(tty.status, tty.stdout).toBe(0);
@@ -36,7 +36,7 @@ describe('progress bar', () => {
   });
 
   it('is not drawn into a pipe', () => {
-    const env = { ...process.env, RHOFIELD_PROGRESS_DELAY_MS: '0' };
+    const env: NodeJS.ProcessEnv = { ...process.env, RHOFIELD_PROGRESS_DELAY_MS: '0' };
     delete env['CI'];
     const [cmd, ...args] = demo(path.join(tmp, 'c'));
     const r = spawnSync(cmd!, args, { cwd: root, env, encoding: 'utf8', timeout: 100_000 });
