@@ -41,6 +41,7 @@ export async function run(): Promise<Record<string, unknown>> {
   };
 
   // 1. planar Gaussian hot spot
+  say('planar Gaussian: RMS of ρ_rec − ρ_true over every grid node / |Δρ|, ρ_rec anchored on the top grid edge (target ≤ 2 %)');
   const planar: Record<string, unknown>[] = [];
   for (const seed of SEEDS) {
     const c = await planarCheck({ sizePx: SIZE, windowPx: 32, seed }, 3);
@@ -58,6 +59,7 @@ export async function run(): Promise<Record<string, unknown>> {
   };
 
   // 2. axisymmetric Gaussian deficit
+  say('axisymmetric Gaussian: centre-line Δρ_rec/Δρ_true − 1 at the grid column nearest the axis, mean over all rows (target ≤ 3 %)');
   const axi: Record<string, unknown>[] = [];
   for (const seed of SEEDS) {
     const c = await axisymmetricCheck({ sizePx: SIZE, windowPx: 32, seed }, 3);
@@ -75,6 +77,7 @@ export async function run(): Promise<Record<string, unknown>> {
   };
 
   // 3. oblique shocks from a wedge
+  say('wedge shock: (mean ρ over nodes ≥ 2 windows behind the shock and ≥ 1 window from the body − ρ₁)/(ρ₁·0.45843) − 1, ρ₁ = anchored left edge (target ≤ 3 %)');
   const shock: Record<string, unknown>[] = [];
   for (const seed of SEEDS) {
     const c = await shockCheck({ sizePx: SIZE, windowPx: 16, seed }, 8, 2);
