@@ -15,10 +15,10 @@ import { writeSequence } from './synthFrames.js';
 
 const isRoot = typeof process.getuid === 'function' && process.getuid() === 0;
 const SLURM = path.join(ROOT, '.ci/slurm.sh');
-if (!isRoot) console.warn('tests/batch/slurm.test.ts: SKIPPED - not running as root, so no local SLURM cluster can be started');
+if (!isRoot) console.warn('tests/batch/slurm.test.ts: SKIPPED - not running as root, so no local SLURM cluster can be started (.ci/run runs as root and does run it)');
 
 function sh(cmd: string, args: string[]): string {
-  return execFileSync(cmd, args, { encoding: 'utf8' }).trim();
+  return execFileSync(cmd, args, { encoding: 'utf8', timeout: 30_000 }).trim();
 }
 
 describe.skipIf(!isRoot || !HAS_PIPELINE)('rhofield batch as a SLURM job array (local cluster)', () => {
@@ -45,8 +45,17 @@ describe.skipIf(!isRoot || !HAS_PIPELINE)('rhofield batch as a SLURM job array (
     expect(readFileSync(script, 'utf8')).toMatch(/#SBATCH --array=1-3/);
 
     const jid = sh('sbatch', ['--parsable', '--chdir', ROOT, script]).split(';')[0]!;
-    const end = Date.now() + 100_000;
-    while (Date.now() < end && sh('squeue', ['-h', '-j', jid]) !== '') await new Promise((r) => setTimeout(r, 500));
+    // poll squeue (sbatch --wait backs off to tens of seconds); an unknown job id (already purged) counts as finished
+    const pending = () => {
+      const q = spawnSync('squeue', ['-h', '-j', jid], { encoding: 'utf8', timeout: 10_000 });
+      return q.status === 0 && q.stdout.trim() !== '';
+    };
+    const end = Date.now() + 90_000;
+    while (Date.now() < end && pending()) await new Promise((r) => setTimeout(r, 500));
+    if (pending()) {
+      spawnSync('scancel', [jid], { timeout: 10_000 });
+      throw new Error(`job array ${jid} had not finished after 90 s (cancelled); squeue: ${spawnSync('squeue', ['-j', jid], { encoding: 'utf8' }).stdout}`);
+    }
     const show = sh('scontrol', ['-o', 'show', 'job', jid]);
     const logs = () => readdirSync(path.join(arrOut, 'logs')).map((f) => readFileSync(path.join(arrOut, 'logs', f), 'utf8')).join('\n');
     const states = show.split('\n').map((l) => /JobState=(\w+)/.exec(l)?.[1]);

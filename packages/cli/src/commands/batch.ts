@@ -207,7 +207,7 @@ export async function batchCommand(o: BatchOpts, executorFactory?: (workers: num
 
   const shard = resolveShard(o);
   const workers = workerCount(o);
-  log.debug(`${jobs.length} pairs (${mode} pairing, frames from a ${framesKind}); ${workers} worker(s)${shard ? `; shard ${shard.index}/${shard.count}` : ''}`);
+  log.debug(`${jobs.length} pairs (${mode} pairing, frames from a ${framesKind === 'stack' ? 'multi-page stack' : framesKind === 'file' ? 'single file' : `${framesKind} pattern`}); ${workers} worker(s)${shard ? `; shard ${shard.index}/${shard.count}` : ''}`);
 
   const showBar = !!process.stderr.isTTY && !o.quiet && !o.json && !o.verbose;
   const bar = showBar
