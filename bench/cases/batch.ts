@@ -38,6 +38,8 @@ function hwmKiB(pid: number): number | null {
 }
 
 interface OneRun {
+  /** 1-minute load average of the machine when the run started (other jobs share the cores). */
+  loadAvg1mAtStart: number;
   seconds: number;
   pairsPerSecond: number;
   peakRssMiBAt50: number | null;
@@ -46,6 +48,7 @@ interface OneRun {
 
 async function runOnce(reference: string, pattern: string, workers: number, frames: number): Promise<OneRun> {
   const out = mkdtempSync(path.join(os.tmpdir(), 'rf-bench-batch-'));
+  const loadAvg1mAtStart = +os.loadavg()[0]!.toFixed(2);
   const child = spawn(process.execPath, [BIN, 'batch', '--reference', reference, '--frames', pattern, '--out', out, '--workers', String(workers), '--json', '--quiet'], {
     cwd: ROOT,
     stdio: ['ignore', 'pipe', 'inherit'],
@@ -70,7 +73,7 @@ async function runOnce(reference: string, pattern: string, workers: number, fram
   if (s.processed !== frames) throw new Error(`expected ${frames} processed pairs, got ${s.processed}`);
   rmSync(out, { recursive: true, force: true });
   const mib = (k: number | null) => (k === null ? null : +(k / 1024).toFixed(1));
-  return { seconds: s.seconds, pairsPerSecond: s.pairsPerSecond, peakRssMiBAt50: mib(at50), peakRssMiBAtEnd: mib(last) };
+  return { loadAvg1mAtStart, seconds: s.seconds, pairsPerSecond: s.pairsPerSecond, peakRssMiBAt50: mib(at50), peakRssMiBAtEnd: mib(last) };
 }
 
 const median = (v: number[]) => {
@@ -113,6 +116,8 @@ export async function run(): Promise<Record<string, unknown>> {
     cpus: os.cpus().length,
     ...results,
     speedUp2vs1: speedUp,
-    note: 'pairs/s = processed pairs / wall time of the processing phase (excludes start-up and statistics); memory = VmHWM of the CLI process (all worker threads)',
+    note:
+      'pairs/s = processed pairs / wall time of the processing phase (excludes start-up and statistics); memory = VmHWM of the CLI process (all worker threads); ' +
+      'default pair options (window 32, 3 passes, formats npy,csv,png); the cores are shared with other jobs (see loadAvg1mAtStart), so timings are noisy',
   };
 }

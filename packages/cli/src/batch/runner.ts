@@ -80,7 +80,8 @@ export async function claimFolder(dir: string, settings: Record<string, unknown>
   if (existsSync(dir)) {
     const st = await fsp.stat(dir);
     if (!st.isDirectory()) throw new RhofieldError('usage', `--out ${dir} exists and is not a folder; choose another path`);
-    const entries = (await fsp.readdir(dir)).filter((e) => e !== 'logs');
+    // logs/ may be made by --emit-job-script before the first task; run.json.tmp-* is a claim killed mid-way
+    const entries = (await fsp.readdir(dir)).filter((e) => e !== 'logs' && !e.startsWith('run.json.tmp-'));
     const existing = existsSync(mf) ? (JSON.parse(await fsp.readFile(mf, 'utf8')) as Partial<Manifest>) : null;
     const same = existing?.kind === 'rhofield-batch' && existing.settingsHash === hash;
     if (entries.length > 0 && !existing) {
