@@ -61,6 +61,12 @@ describe('rhofield displacement REF MEAS --out DIR', () => {
     const res = JSON.parse(readFileSync(path.join(out, 'result.json'), 'utf8'));
     expect(res.inputs.reference.sha256).toMatch(/^[0-9a-f]{64}$/);
     expect(res.settings.windowPx).toBe(32);
+    // every setting with its default filled in (issue: provenance)
+    expect(res.settings).toMatchObject({ stepPx: 16, passes: 3, interpolation: 'lanczos4', refine: 'direct', masked: false });
+    expect(res.settings.medianTest).toMatchObject({ threshold: 2, epsilonPx: 0.1, keepPeakRatio: 3 });
+    expect(res.settings.schedule.at(-1)).toEqual({ windowPx: 32, stepPx: 16 });
+    expect(res.version).toMatch(/^\d+\.\d+\.\d+$/);
+    expect(res).toHaveProperty('gitCommit');
     expect(res.timingsSeconds.displacement).toBeGreaterThan(0);
     expect(JSON.parse(r.out).grid.cols).toBeGreaterThan(0);
     // npy header: float32, rows × cols × 2

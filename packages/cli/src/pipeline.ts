@@ -106,14 +106,9 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
   }
 
   const settings = {
-    windowPx: disp.passes[disp.passes.length - 1]?.windowPx ?? o.windowPx,
-    stepPx: disp.passes[disp.passes.length - 1]?.stepPx ?? o.stepPx,
-    passes: disp.passes.map((p) => ({ windowPx: p.windowPx, stepPx: p.stepPx })),
+    ...disp.settings,
+    schedule: disp.passes.map((p) => ({ windowPx: p.windowPx, stepPx: p.stepPx })),
     mask: o.maskPath ?? null,
-    flowFreeRegionPx: o.flowFreeRegionPx ?? null,
-    interpolation: o.interpolation ?? 'lanczos4',
-    medianTest: { threshold: 2, epsilonPx: 0.1, neighbours: 8 },
-    threads: disp.threads,
     formats,
     refPage: job.refPage ?? 0,
     measPage: job.measPage ?? 0,

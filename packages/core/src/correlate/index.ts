@@ -1,6 +1,6 @@
 export type { DisplacementField, VectorGrid, VectorStatusCode } from './types.js';
 export { VectorStatus, VECTOR_STATUS_NAMES } from './types.js';
-export type { MeasureDisplacementOptions, DisplacementResult, PassReport } from './measureDisplacement.js';
+export type { MeasureDisplacementOptions, DisplacementResult, DisplacementSettings, PassReport } from './measureDisplacement.js';
 export { measureDisplacement, releaseDisplacementBuffers } from './measureDisplacement.js';
 export type { PassPlan, ScheduleOptions } from './schedule.js';
 export { buildSchedule, describeSchedule } from './schedule.js';

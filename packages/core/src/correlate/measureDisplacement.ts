@@ -94,8 +94,23 @@ export interface DisplacementResult extends DisplacementField {
   shakePx?: { dx: number; dy: number; vectors: number };
   /** Threads used. */
   threads: number;
+  /** Every setting used, defaults filled in (for provenance, e.g. result.json). */
+  settings: DisplacementSettings;
   /** Wall times, ms: setup (copy, checks), prefilter (B-spline), passes, total. */
   timingsMs: { setup: number; prefilter: number; passes: number; total: number };
+}
+
+/** The resolved settings of a {@link measureDisplacement} call (JSON-able). */
+export interface DisplacementSettings {
+  windowPx: number;
+  stepPx: number;
+  passes: number;
+  medianTest: { threshold: number; epsilonPx: number; neighbours: 8; keepPeakRatio: number | 'none (published test)' };
+  interpolation: 'lanczos4' | 'bspline3';
+  refine: 'direct' | 'fft';
+  masked: boolean;
+  flowFreeRegionPx: readonly [number, number, number, number] | null;
+  threads: number;
 }
 
 function isPow2(n: number): boolean {
@@ -491,6 +506,17 @@ export async function measureDisplacement(ref: Field, meas: Field, options: Meas
     passes: reports,
     ...(shakePx ? { shakePx } : {}),
     threads: o.threads,
+    settings: {
+      windowPx: o.windowPx,
+      stepPx: o.stepPx,
+      passes: o.passes,
+      medianTest: { threshold: o.medianThreshold, epsilonPx: o.medianEpsilonPx, neighbours: 8, keepPeakRatio: Number.isFinite(o.keepPeakRatio) ? o.keepPeakRatio : 'none (published test)' },
+      interpolation: o.interpolation,
+      refine: o.refine,
+      masked: o.mask !== undefined,
+      flowFreeRegionPx: o.region ?? null,
+      threads: o.threads,
+    },
     timingsMs: { setup: t1 - t0, prefilter: t2 - t1, passes: t3 - t2, total: t4 - t0 },
   };
 }
