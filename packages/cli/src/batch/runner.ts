@@ -70,6 +70,17 @@ interface Manifest {
   tool: Record<string, unknown>;
 }
 
+/** Read run.json; a damaged one is an input error naming the file (it is written atomically, so only an outside edit damages it). */
+async function readManifest(file: string): Promise<Partial<Manifest>> {
+  try {
+    const m = JSON.parse(await fsp.readFile(file, 'utf8')) as Partial<Manifest>;
+    if (m && typeof m === 'object' && typeof m.settingsHash === 'string') return m;
+  } catch {
+    /* reported below */
+  }
+  throw new RhofieldError('input', `${file} is not a readable batch manifest; restore it, or discard the folder's results with --force`);
+}
+
 /**
  * Claim DIR for these settings: create run.json (atomically, exclusive so that concurrent shards
  * agree), or check that the existing one has the same settings hash.
@@ -82,7 +93,8 @@ export async function claimFolder(dir: string, settings: Record<string, unknown>
     if (!st.isDirectory()) throw new RhofieldError('usage', `--out ${dir} exists and is not a folder; choose another path`);
     // logs/ may be made by --emit-job-script before the first task; run.json.tmp-* is a claim killed mid-way
     const entries = (await fsp.readdir(dir)).filter((e) => e !== 'logs' && !e.startsWith('run.json.tmp-'));
-    const existing = existsSync(mf) ? (JSON.parse(await fsp.readFile(mf, 'utf8')) as Partial<Manifest>) : null;
+    // a damaged run.json still marks a batch folder, which --force may discard
+    const existing = existsSync(mf) ? await readManifest(mf).catch((e: unknown) => (force ? ({ settingsHash: '' } as Partial<Manifest>) : Promise.reject(e))) : null;
     const same = existing?.kind === 'rhofield-batch' && existing.settingsHash === hash;
     if (entries.length > 0 && !existing) {
       // even with --force: only a batch folder's own entries are ever deleted
@@ -289,7 +301,7 @@ export async function mergeBatch(outDir: string): Promise<MergeResult> {
   const dir = path.resolve(outDir);
   const mf = layout.manifest(dir);
   if (!existsSync(mf)) throw new RhofieldError('input', `${dir} is not a batch folder (no run.json); give the --out folder of a batch run`);
-  const manifest = JSON.parse(await fsp.readFile(mf, 'utf8')) as Manifest;
+  const manifest = (await readManifest(mf)) as Manifest;
   const { acc, infos } = await mergePartials(dir, manifest.settingsHash);
   const failed = infos.flatMap((p) => p.failed);
   const pairsTotal = infos.reduce((a, p) => a + p.pairsTotal, 0);
