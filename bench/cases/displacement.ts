@@ -181,7 +181,7 @@ async function throughput(): Promise<Record<string, unknown>[]> {
       displacement: { kind: 'sine', amplitudePx: 3, wavelengthPx: 256, along: 'x', component: 'dy' },
     });
     for (const threads of [1, 2])
-      for (const passes of [1, 3]) {
+      for (const passes of [1, 3, 4]) {
         const times: number[] = [];
         let last: DisplacementResult | null = null;
         await measureDisplacement(ref, meas, { threads, passes }); // warm-up (workers start, buffers)
