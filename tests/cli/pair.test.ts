@@ -118,7 +118,7 @@ describe('rhofield density REF MEAS --setup FILE --out DIR', () => {
     expect(res.density.minKgm3).toBeGreaterThan(1.07 - 0.12 * 0.05);
     expect(res.density.minKgm3).toBeLessThan(1.07 + 0.12 * 0.05);
     const head = readFileSync(path.join(out, 'density.csv'), 'utf8').split('\n')[0]!.split(',');
-    for (const c of ['x_px', 'y_px', 'x_m', 'y_m', 'rho_kgm3', 'T_K']) expect(head).toContain(c);
+    for (const c of ['x_px', 'y_px', 'x_m', 'y_m', 'rho_kgm3', 'temperature_K']) expect(head).toContain(c);
   });
 
   it('a setup with an unknown key: one line naming the key, exit 2, nothing written', async () => {

@@ -65,7 +65,7 @@ describe('densityFieldSet(result, grid)', () => {
   } as unknown as DensityResult;
   it('rho, T, deflection (y up: VTK keeps the sign), gradients; metres grid; attributes; figures with vectors', async () => {
     const set = densityFieldSet(res, { xPx, yPx });
-    expect(set.fields.map((x) => x.name)).toEqual(['rho', 'T', 'eps_x', 'eps_y', 'drho_dx', 'drho_dy']);
+    expect(set.fields.map((x) => x.name)).toEqual(['rho', 'temperature', 'eps_x', 'eps_y', 'drho_dx', 'drho_dy']);
     const v = vtiVector(fieldSetToVti(set), 'deflection_rad');
     for (let i = 0; i < C * R; i++) expect(v[3 * i + 1]).toBe(res.deflectionY.data[i]);
     const files = await writeFieldSet(dir, 'density', set, ['svg'], { figure: { vectors: 'deflection' } });
@@ -74,5 +74,12 @@ describe('densityFieldSet(result, grid)', () => {
     expect(svg).toContain('density ρ (kg/m^3)');
     expect(svg).toContain('x (mm)');
     expect(set.attributes!['gladstone_dale_m3_per_kg']).toBe(2.26e-4);
+  });
+  it('CSV columns as the issue names them: x_px,y_px,x_m,y_m,rho_kgm3,temperature_K (planar) and r_m (axisymmetric)', () => {
+    expect(fieldSetToCsv(densityFieldSet(res, { xPx, yPx })).split('\n')[0]).toMatch(/^x_px,y_px,x_m,y_m,rho_kgm3,temperature_K,/);
+    const axi = { ...res, flowType: 'axisymmetric', rM: f((c) => Math.abs(c - 1.5) * 1e-3) } as unknown as DensityResult;
+    const head = fieldSetToCsv(densityFieldSet(axi, { xPx, yPx })).split('\n')[0]!.split(',');
+    expect(head).toContain('r_m');
+    expect(head.filter((c) => c.startsWith('r_'))).toEqual(['r_m']);
   });
 });

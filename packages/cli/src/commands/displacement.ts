@@ -145,7 +145,7 @@ ${EXIT_CODES_HELP}`,
     .addHelpText(
       'after',
       `
-Outputs: the displacement files, density.csv (x_px,y_px,x_m,y_m,rho_kgm3[,T_K][,r_m]), density.npy
+Outputs: the displacement files, density.csv (x_px,y_px,x_m,y_m,rho_kgm3[,temperature_K][,r_m],eps_*,drho_*), density.npy
 (float32 rows×cols), density_*.png figures, result.json. x_m to the right and y_m upward in the flow
 plane, origin at the image centre unless geometry.originPx is set. Temperature (when medium.pressure is
 given) assumes constant pressure and composition.

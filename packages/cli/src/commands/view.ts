@@ -98,9 +98,13 @@ async function runView(kindRaw: string, dir: string, o: ViewOpts): Promise<void>
     view = shadowgraphView(vx, vy, { hx, hy, unit: `${unit}/${haveM ? 'm' : 'px'}` });
     title = `shadowgraph view: −∇·(${what})`;
   } else {
-    const rhoName = existsSync(path.join(dir, 'density_T.npy')) && o.levels === 'T' ? 'density_T.npy' : 'density_rho.npy';
+    const wantT = o.levels === 'T' || o.levels === 'temperature';
+    if (o.levels !== undefined && !wantT && o.levels !== 'rho') throw invalidParameter('--levels', "'rho' or 'T'", o.levels);
+    if (wantT && !existsSync(path.join(dir, 'density_temperature.npy')))
+      throw inputError(`${dir} holds no temperature (density_temperature.npy); give medium.pressure in the setup and rerun rhofield density`);
+    const rhoName = wantT ? 'density_temperature.npy' : 'density_rho.npy';
     if (!density) throw inputError(`${dir} holds no density (density_rho.npy); contour needs a result of rhofield density`);
-    const isT = rhoName === 'density_T.npy';
+    const isT = wantT;
     view = contourView(readField(dir, rhoName), { quantity: isT ? 'temperature T' : 'density ρ', unit: isT ? 'K' : 'kg/m^3', count: 10 });
     title = isT ? 'temperature contours' : 'density contours';
   }

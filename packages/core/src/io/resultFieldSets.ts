@@ -39,8 +39,8 @@ export function displacementFieldSet(d: DisplacementField, options: ResultSetOpt
 }
 
 /**
- * Field set of a density result: `rho` (kg/m^3), `T` (K, when computed), `eps_x`, `eps_y`
- * (deflection, rad; y up), `drho_dx`, `drho_dy` (kg/m^4; y up), `r_m` (axisymmetric), the vector
+ * Field set of a density result: `rho` (kg/m^3), `temperature` (K, when computed), `eps_x`, `eps_y`
+ * (deflection, rad; y up), `drho_dx`, `drho_dy` (kg/m^4; y up), `r` (m, axisymmetric), the vector
  * `deflection` (frame y-up), and attributes (flow type, Gladstone–Dale constant, n0, pixel size,
  * reference density, method, notes, warnings).
  * @param r the reconstruction result; @param grid the vector grid (pixel coordinates).
@@ -49,14 +49,14 @@ export function densityFieldSet(r: DensityResult, grid: { xPx: Float64Array; yPx
   const fields: FieldSetField[] = [
     { name: 'rho', units: 'kg/m^3', description: 'density', quantity: 'density ρ', colormap: 'sequential', data: r.rho },
   ];
-  if (r.temperature) fields.push({ name: 'T', units: 'K', description: 'temperature from density (ideal gas at the given pressure)', quantity: 'temperature T', colormap: 'sequential', data: r.temperature });
+  if (r.temperature) fields.push({ name: 'temperature', units: 'K', description: 'temperature from density (ideal gas at the given pressure)', quantity: 'temperature T', colormap: 'sequential', data: r.temperature });
   fields.push(
     { name: 'eps_x', units: 'rad', description: 'deflection angle along +x (right)', quantity: 'deflection εx', colormap: 'diverging', data: r.deflectionX },
     { name: 'eps_y', units: 'rad', description: 'deflection angle along +y (up)', quantity: 'deflection εy (up)', colormap: 'diverging', data: r.deflectionY },
     { name: 'drho_dx', units: 'kg/m^4', description: 'density gradient along +x', quantity: '∂ρ/∂x', colormap: 'diverging', data: r.gradX },
     { name: 'drho_dy', units: 'kg/m^4', description: 'density gradient along +y (up)', quantity: '∂ρ/∂y (up)', colormap: 'diverging', data: r.gradY },
   );
-  if (r.rM) fields.push({ name: 'r_m', units: 'm', description: 'distance to the symmetry axis', data: r.rM, figure: false });
+  if (r.rM) fields.push({ name: 'r', units: 'm', description: 'distance to the symmetry axis', data: r.rM, figure: false });
   return {
     title: options.title ?? 'density',
     grid: { xPx: grid.xPx, yPx: grid.yPx, xM: r.xM, yM: r.yM },
