@@ -3,7 +3,7 @@ import { mkdtempSync, writeFileSync, readFileSync, existsSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
-import { run } from '../../packages/cli/src/main.js';
+import { cli } from '../cliHarness.js';
 import { renderTestDots } from '../diagnose/renderTestDots.js';
 
 type SharpLike = (input: Uint8Array | Uint16Array, o?: unknown) => { toColourspace(s: string): { png(): { toFile(f: string): Promise<unknown> } } };
@@ -22,22 +22,6 @@ writeFileSync(
   }),
 );
 
-/** Run the CLI in-process, capturing stdout and stderr. */
-async function cli(...argv: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((s: string | Uint8Array) => ((out += String(s)), true));
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((s: string | Uint8Array) => ((err += String(s)), true));
-  process.exitCode = undefined;
-  try {
-    const code = await run(argv);
-    return { code, out, err };
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-    process.exitCode = undefined;
-  }
-}
 afterEach(() => vi.restoreAllMocks());
 
 describe('rhofield plan', () => {

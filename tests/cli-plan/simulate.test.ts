@@ -3,7 +3,7 @@ import { existsSync, mkdirSync, mkdtempSync, readFileSync, readdirSync, writeFil
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { loadImage, measureDisplacement } from '@rhofield/core';
-import { run } from '../../packages/cli/src/main.js';
+import { cli } from '../cliHarness.js';
 
 const dir = mkdtempSync(path.join(tmpdir(), 'rhofield-cli-simulate-'));
 /**
@@ -23,21 +23,6 @@ writeFileSync(setupFile, JSON.stringify(setup));
 const noExpected = path.join(dir, 'noexpected.json');
 writeFileSync(noExpected, JSON.stringify({ ...setup, expected: undefined }));
 
-async function cli(...argv: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((s: string | Uint8Array) => ((out += String(s)), true));
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((s: string | Uint8Array) => ((err += String(s)), true));
-  process.exitCode = undefined;
-  try {
-    const code = await run(argv);
-    return { code, out, err };
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-    process.exitCode = undefined;
-  }
-}
 afterEach(() => vi.restoreAllMocks());
 
 describe('rhofield simulate', () => {

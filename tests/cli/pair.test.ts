@@ -7,7 +7,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { beforeAll, describe, expect, it, vi } from 'vitest';
 import { createField, saveImage16, synthPair } from '@rhofield/core';
-import { run } from '../../packages/cli/src/main.js';
+import { cli as runCli } from '../cliHarness.js';
 
 const dir = mkdtempSync(path.join(os.tmpdir(), 'rhofield-cli-'));
 const ref = path.join(dir, 'ref.png');
@@ -17,19 +17,7 @@ const tiny = path.join(dir, 'tiny.png');
 const flat = path.join(dir, 'flat.png');
 const truncated = path.join(dir, 'truncated.png');
 
-async function cli(args: string[]): Promise<{ code: number; err: string; out: string }> {
-  let err = '';
-  let out = '';
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((s: string | Uint8Array) => ((err += String(s)), true));
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((s: string | Uint8Array) => ((out += String(s)), true));
-  try {
-    const code = await run(args);
-    return { code, err, out };
-  } finally {
-    e.mockRestore();
-    o.mockRestore();
-  }
-}
+const cli = (args: string[]) => runCli(...args);
 
 beforeAll(async () => {
   const p = synthPair({ width: 192, height: 160, diameterPx: 2.8, dotsPerWindow: 10, seed: 5, bitDepth: 16, peak: 40000, displacement: { kind: 'uniform', dx: 1.37, dy: -0.62 } });
