@@ -51,5 +51,10 @@ describe('rhofield batch inside a job array', () => {
     await expect(batchCommand({ reference: seq.reference, frames: seq.pattern, out, emitJobScript: script, arrayTasks: '9', quiet: true })).rejects.toThrow(
       /at most the number of pairs \(6\) for --array-tasks but received 9/,
     );
+    // #SBATCH lines cannot hold a path with spaces: refused with the option named, no script written
+    const spaced = path.join(base, 'with space');
+    const script2 = path.join(base, 'job2.sh');
+    await expect(batchCommand({ reference: seq.reference, frames: seq.pattern, out: spaced, emitJobScript: script2, arrayTasks: '2', quiet: true })).rejects.toThrow(/--out.*without spaces/);
+    expect(readdirSync(base)).not.toContain('job2.sh');
   });
 });

@@ -3,6 +3,7 @@
  * `rhofield batch` command; the task picks its shard from SLURM_ARRAY_TASK_ID / _MIN / _COUNT.
  */
 import path from 'node:path';
+import { invalidParameter } from '@rhofield/core';
 
 /** Quote one argument for bash (single quotes). */
 export function shellQuote(s: string): string {
@@ -26,6 +27,8 @@ export interface JobScriptSpec {
 /** Text of a ready-to-submit sbatch script. */
 export function jobScript(s: JobScriptSpec): string {
   const logs = path.join(s.outDir, 'logs');
+  // #SBATCH lines are not shell lines: a path with white space cannot be written there reliably.
+  if (/\s/.test(logs)) throw invalidParameter('--out', 'a folder path without spaces for --emit-job-script (SLURM #SBATCH lines cannot hold them)', s.outDir, 'choose a path without spaces or link one to it');
   return [
     '#!/bin/bash',
     `# rhofield batch as a job array of ${s.tasks} tasks; written by rhofield batch --emit-job-script.`,
