@@ -5,8 +5,8 @@
  * Internal to the correlate stage.
  */
 import { prefilterCols, prefilterRows, sampleBspline } from './bspline.js';
-import { sampleKeys } from './keysCubic.js';
-import { sampleLanczos4 } from './lanczos.js';
+import { keysRow } from './keysCubic.js';
+import { lanczos4Row } from './lanczos.js';
 import { DirectWindowCorrelator } from './directCorrelator.js';
 import { FftWindowCorrelator, type CorrelationOutputs } from './fftCorrelator.js';
 import { axisTaps, type GridAxis } from './predictor.js';
@@ -112,6 +112,9 @@ function direct(n: number): DirectWindowCorrelator {
 const tapIdx = new Int32Array(4);
 const tapW = new Float64Array(4);
 const tapTmp = new Float64Array(4);
+/** Per-row half predictor (x and y) of the deformation, px. */
+let rowHx = new Float64Array(0);
+let rowHy = new Float64Array(0);
 
 /** Run chunk `k` of a task. */
 export function runChunk(img: EngineImages, task: EngineTask, k: number): void {
@@ -171,8 +174,12 @@ export function runChunk(img: EngineImages, task: EngineTask, k: number): void {
 function deformRows(img: EngineImages, t: DeformTask, y0: number, y1: number): void {
   const { width, height, ref, meas, coefRef, coefMeas, defRef, defMeas, mask } = img;
   const { predX, predY } = t;
-  const lanczos = t.interpolation === 'lanczos4';
-  const keys = t.interpolation === 'keys';
+  if (rowHx.length < width) {
+    rowHx = new Float64Array(width);
+    rowHy = new Float64Array(width);
+  }
+  const hxs = rowHx;
+  const hys = rowHy;
   for (let y = y0; y < y1; y++) {
     axisTaps(t.ay, y, tapIdx, tapW, 0, tapTmp);
     const r0 = tapIdx[0]! * width;
@@ -185,26 +192,30 @@ function deformRows(img: EngineImages, t: DeformTask, y0: number, y1: number): v
     const w3 = tapW[3]!;
     const o = y * width;
     for (let x = 0; x < width; x++) {
-      const k = o + x;
-      if (mask && !mask[k]) {
-        defRef[k] = defMeas[k] = NaN;
-        continue;
-      }
-      const hx = 0.5 * (w0 * predX[r0 + x]! + w1 * predX[r1 + x]! + w2 * predX[r2 + x]! + w3 * predX[r3 + x]!);
-      const hy = 0.5 * (w0 * predY[r0 + x]! + w1 * predY[r1 + x]! + w2 * predY[r2 + x]! + w3 * predY[r3 + x]!);
-      if (lanczos) {
-        defRef[k] = sampleLanczos4(ref, width, height, x - hx, y - hy);
-        defMeas[k] = sampleLanczos4(meas, width, height, x + hx, y + hy);
-      } else if (keys) {
-        defRef[k] = sampleKeys(ref, width, height, x - hx, y - hy);
-        defMeas[k] = sampleKeys(meas, width, height, x + hx, y + hy);
-      } else {
-        defRef[k] = sampleBspline(coefRef, width, height, x - hx, y - hy);
-        defMeas[k] = sampleBspline(coefMeas, width, height, x + hx, y + hy);
-      }
-      // a pixel missing in either image is dropped from both, so both windows keep the same pixel set
-      if (!(defRef[k]! === defRef[k]!) || !(defMeas[k]! === defMeas[k]!)) defRef[k] = defMeas[k] = NaN;
+      hxs[x] = 0.5 * (w0 * predX[r0 + x]! + w1 * predX[r1 + x]! + w2 * predX[r2 + x]! + w3 * predX[r3 + x]!);
+      hys[x] = 0.5 * (w0 * predY[r0 + x]! + w1 * predY[r1 + x]! + w2 * predY[r2 + x]! + w3 * predY[r3 + x]!);
     }
+    let nan: boolean;
+    if (t.interpolation === 'lanczos4') {
+      nan = lanczos4Row(ref, width, height, y, hxs, hys, -1, defRef, o);
+      nan = lanczos4Row(meas, width, height, y, hxs, hys, 1, defMeas, o) || nan;
+    } else if (t.interpolation === 'keys') {
+      nan = keysRow(ref, width, height, y, hxs, hys, -1, defRef, o);
+      nan = keysRow(meas, width, height, y, hxs, hys, 1, defMeas, o) || nan;
+    } else {
+      nan = false;
+      for (let x = 0; x < width; x++) {
+        const k = o + x;
+        const a = (defRef[k] = sampleBspline(coefRef, width, height, x - hxs[x]!, y - hys[x]!));
+        const b = (defMeas[k] = sampleBspline(coefMeas, width, height, x + hxs[x]!, y + hys[x]!));
+        if (!(a === a) || !(b === b)) nan = true;
+      }
+    }
+    // a pixel missing in either image (or masked) is dropped from both, so both windows keep the same
+    // pixel set
+    if (nan || mask)
+      for (let k = o; k < o + width; k++)
+        if ((mask && !mask[k]) || !(defRef[k]! === defRef[k]!) || !(defMeas[k]! === defMeas[k]!)) defRef[k] = defMeas[k] = NaN;
   }
 }
 

@@ -16,7 +16,7 @@
  *
  * No allocation after construction; one instance per window size and thread.
  */
-import FFT from 'fft.js';
+import { Fft2d } from './fft2d.js';
 import { gaussianPeak3 } from './gaussianPeak3.js';
 
 /** Per-vector outputs written by the correlators (row-major over the vector grid). */
@@ -32,28 +32,19 @@ export const PEAK_RATIO_CAP = 1000;
 
 export class FftWindowCorrelator {
   readonly n: number;
-  private readonly fft: FFT;
+  private readonly fft: Fft2d;
   private readonly z: [Float64Array, Float64Array];
   private readonly w: Float64Array;
-  private readonly t: Float64Array;
-  private readonly colIn: Float64Array;
-  private readonly colOut: Float64Array;
-  private readonly rowView: Float64Array[][];
   private readonly energyA = new Float64Array(2);
   private readonly energyB = new Float64Array(2);
   private readonly loaded = new Uint8Array(2);
 
   constructor(n: number) {
     this.n = n;
-    this.fft = new FFT(n);
+    this.fft = new Fft2d(n);
     const size = 2 * n * n;
     this.z = [new Float64Array(size), new Float64Array(size)];
     this.w = new Float64Array(size);
-    this.t = new Float64Array(size);
-    this.colIn = new Float64Array(2 * n);
-    this.colOut = new Float64Array(2 * n);
-    const views = (buf: Float64Array): Float64Array[] => Array.from({ length: n }, (_, r) => buf.subarray(2 * n * r, 2 * n * (r + 1)));
-    this.rowView = [views(this.z[0]), views(this.z[1]), views(this.w), views(this.t)];
   }
 
   /**
@@ -159,32 +150,6 @@ export class FftWindowCorrelator {
     this.loaded[slot] = 0;
   }
 
-  private fft2(buf: Float64Array, views: Float64Array[], inverse: boolean): void {
-    const n = this.n;
-    const fft = this.fft;
-    const t = this.t;
-    const tv = this.rowView[3]!;
-    for (let r = 0; r < n; r++) {
-      if (inverse) fft.inverseTransform(tv[r], views[r]);
-      else fft.transform(tv[r], views[r]);
-    }
-    const ci = this.colIn;
-    const co = this.colOut;
-    const n2 = 2 * n;
-    for (let c = 0; c < n; c++) {
-      for (let r = 0, k = 2 * c; r < n; r++, k += n2) {
-        ci[2 * r] = t[k]!;
-        ci[2 * r + 1] = t[k + 1]!;
-      }
-      if (inverse) fft.inverseTransform(co, ci);
-      else fft.transform(co, ci);
-      for (let r = 0, k = 2 * c; r < n; r++, k += n2) {
-        buf[k] = co[2 * r]!;
-        buf[k + 1] = co[2 * r + 1]!;
-      }
-    }
-  }
-
   /**
    * Correlate the loaded slots and write the results of slot s to index `out0` (slot 0) and `out1`
    * (slot 1, ignored when −1) of the outputs. A window with zero energy gives NaN.
@@ -201,9 +166,12 @@ export class FftWindowCorrelator {
     const z0 = this.z[0];
     const z1 = this.z[1];
     const w = this.w;
-    this.fft2(z0, this.rowView[0]!, false);
-    if (two) this.fft2(z1, this.rowView[1]!, false);
+    // spectra in the transposed layout of Fft2d (row = kx): the partner −k of an index is found the
+    // same way in either layout
+    this.fft.forward(z0);
+    if (two) this.fft.forward(z1);
     else z1.fill(0);
+    const scale = 1 / (n * n); // the inverse transform is not normalised
     const mask = n - 1;
     for (let ky = 0; ky < n; ky++) {
       const nky = (n - ky) & mask;
@@ -222,11 +190,11 @@ export class FftWindowCorrelator {
         qi = z1[m + 1]!;
         const c2r = 0.5 * (pr * qi + pi * qr);
         const c2i = 0.25 * (qr * qr + qi * qi - pr * pr - pi * pi);
-        w[i] = c1r - c2i;
-        w[i + 1] = c1i + c2r;
+        w[i] = scale * (c1r - c2i);
+        w[i + 1] = scale * (c1i + c2r);
       }
     }
-    this.fft2(w, this.rowView[2]!, true);
+    this.fft.inverse(w);
   }
 }
 

@@ -57,3 +57,46 @@ export function sampleKeys(img: Float32Array, width: number, height: number, x: 
   }
   return s;
 }
+
+/**
+ * One image row of a deformation: out[o + x] = Keys cubic value of `img` at (x + s·hx[x], y + s·hy[x])
+ * for x = 0 … width − 1 (the same values as {@link sampleKeys}, which handles the border).
+ * @returns true when some value is NaN (kernel beyond the image).
+ */
+export function keysRow(img: Float32Array, width: number, height: number, y: number, hx: Float64Array, hy: Float64Array, s: number, out: Float32Array, o: number): boolean {
+  const xmax = width - 2;
+  const ymax = height - 2;
+  let nan = false;
+  for (let x = 0; x < width; x++) {
+    const px = x + s * hx[x]!;
+    const py = y + s * hy[x]!;
+    if (px >= 1 && px < xmax && py >= 1 && py < ymax) {
+      const ix = px | 0;
+      const iy = py | 0;
+      const t = px - ix;
+      const u = py - iy;
+      const t2 = t * t;
+      const t3 = t2 * t;
+      const u2 = u * u;
+      const u3 = u2 * u;
+      const a0 = 0.5 * (-t3 + 2 * t2 - t);
+      const a1 = 0.5 * (3 * t3 - 5 * t2 + 2);
+      const a2 = 0.5 * (-3 * t3 + 4 * t2 + t);
+      const a3 = 0.5 * (t3 - t2);
+      let k = ix - 1 + (iy - 1) * width;
+      let v = 0.5 * (-u3 + 2 * u2 - u) * (a0 * img[k]! + a1 * img[k + 1]! + a2 * img[k + 2]! + a3 * img[k + 3]!);
+      k += width;
+      v += 0.5 * (3 * u3 - 5 * u2 + 2) * (a0 * img[k]! + a1 * img[k + 1]! + a2 * img[k + 2]! + a3 * img[k + 3]!);
+      k += width;
+      v += 0.5 * (-3 * u3 + 4 * u2 + u) * (a0 * img[k]! + a1 * img[k + 1]! + a2 * img[k + 2]! + a3 * img[k + 3]!);
+      k += width;
+      v += 0.5 * (u3 - u2) * (a0 * img[k]! + a1 * img[k + 1]! + a2 * img[k + 2]! + a3 * img[k + 3]!);
+      out[o + x] = v;
+    } else {
+      const v = sampleKeys(img, width, height, px, py);
+      out[o + x] = v;
+      if (!(v === v)) nan = true;
+    }
+  }
+  return nan;
+}
