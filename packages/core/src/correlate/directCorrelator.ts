@@ -33,6 +33,7 @@ export class DirectWindowCorrelator {
   private readonly r = new Float64Array(L * L);
 
   constructor(n: number) {
+    if (n % 8 !== 0) throw new Error(`DirectWindowCorrelator: window ${n} px is not a multiple of 8`);
     this.n = n;
     this.a = new Float64Array(n * n);
     this.b = new Float64Array((n + 2 * R) * (n + 2 * R));
@@ -48,18 +49,30 @@ export class DirectWindowCorrelator {
     const a = this.a;
     const b = this.b;
     const m = n + 2 * R;
-    // means over the window's finite pixels
+    // means over the window's finite pixels: first a plain sum, which is NaN when some pixel is
+    // missing (then counted pixel by pixel)
     let sa = 0;
     let sb = 0;
-    let na = 0;
-    let nb = 0;
     for (let r = 0; r < n; r++) {
       let k = x0 + (y0 + r) * width;
       for (let c = 0; c < n; c++, k++) {
-        const va = A[k]!;
-        const vb = B[k]!;
-        if (va === va) (sa += va), na++;
-        if (vb === vb) (sb += vb), nb++;
+        sa += A[k]!;
+        sb += B[k]!;
+      }
+    }
+    let na = n * n;
+    let nb = n * n;
+    const complete = sa === sa && sb === sb;
+    if (!complete) {
+      sa = sb = na = nb = 0;
+      for (let r = 0; r < n; r++) {
+        let k = x0 + (y0 + r) * width;
+        for (let c = 0; c < n; c++, k++) {
+          const va = A[k]!;
+          const vb = B[k]!;
+          if (va === va) (sa += va), na++;
+          if (vb === vb) (sb += vb), nb++;
+        }
       }
     }
     if (na < minPixels || nb < minPixels) {
@@ -68,34 +81,40 @@ export class DirectWindowCorrelator {
     }
     const ma = sa / na;
     const mb = sb / nb;
+    // mean-removed windows (NaN → 0); b sits inside a zero border of R pixels, written once at
+    // construction and never touched since
     let ea = 0;
+    let eb = 0;
     for (let r = 0, j = 0; r < n; r++) {
       let k = x0 + (y0 + r) * width;
-      for (let c = 0; c < n; c++, k++, j++) {
-        const va = A[k]!;
-        const v = va === va ? va - ma : 0;
-        a[j] = v;
-        ea += v * v;
-      }
-    }
-    let eb = 0;
-    b.fill(0);
-    for (let r = 0; r < n; r++) {
-      let k = x0 + (y0 + r) * width;
-      let j = (r + R) * m + R;
-      for (let c = 0; c < n; c++, k++, j++) {
-        const vb = B[k]!;
-        const v = vb === vb ? vb - mb : 0;
-        b[j] = v;
-        eb += v * v;
-      }
+      let jb = (r + R) * m + R;
+      if (complete)
+        for (let c = 0; c < n; c++, k++, j++, jb++) {
+          const u = A[k]! - ma;
+          const w = B[k]! - mb;
+          a[j] = u;
+          b[jb] = w;
+          ea += u * u;
+          eb += w * w;
+        }
+      else
+        for (let c = 0; c < n; c++, k++, j++, jb++) {
+          const va = A[k]!;
+          const vb = B[k]!;
+          const u = va === va ? va - ma : 0;
+          const w = vb === vb ? vb - mb : 0;
+          a[j] = u;
+          b[jb] = w;
+          ea += u * u;
+          eb += w * w;
+        }
     }
     if (!(ea > 0 && eb > 0)) {
       out.dx[idx] = out.dy[idx] = out.correlation[idx] = out.peakRatio[idx] = NaN;
       return true;
     }
     const rr = this.r;
-    rr.fill(0);
+    // R(u, v) for the 5 lags u of each lag row v at once, 8 columns of a per step (n is a multiple of 8)
     for (let v = 0; v < L; v++) {
       let s0 = 0;
       let s1 = 0;
@@ -104,23 +123,35 @@ export class DirectWindowCorrelator {
       let s4 = 0;
       for (let r = 0; r < n; r++) {
         const ao = r * n;
-        let bo = (r + v) * m;
-        let b1 = b[bo]!;
-        let b2 = b[bo + 1]!;
-        let b3 = b[bo + 2]!;
-        let b4 = b[bo + 3]!;
-        for (let c = 0; c < n; c++, bo++) {
-          const av = a[ao + c]!;
-          const b5 = b[bo + 4]!;
-          s0 += av * b1;
-          s1 += av * b2;
-          s2 += av * b3;
-          s3 += av * b4;
-          s4 += av * b5;
-          b1 = b2;
-          b2 = b3;
-          b3 = b4;
-          b4 = b5;
+        const bo = (r + v) * m;
+        for (let c = 0; c < n; c += 8) {
+          const q = ao + c;
+          const k = bo + c;
+          const x0 = a[q]!;
+          const x1 = a[q + 1]!;
+          const x2 = a[q + 2]!;
+          const x3 = a[q + 3]!;
+          const x4 = a[q + 4]!;
+          const x5 = a[q + 5]!;
+          const x6 = a[q + 6]!;
+          const x7 = a[q + 7]!;
+          const c0 = b[k]!;
+          const c1 = b[k + 1]!;
+          const c2 = b[k + 2]!;
+          const c3 = b[k + 3]!;
+          const c4 = b[k + 4]!;
+          const c5 = b[k + 5]!;
+          const c6 = b[k + 6]!;
+          const c7 = b[k + 7]!;
+          const c8 = b[k + 8]!;
+          const c9 = b[k + 9]!;
+          const c10 = b[k + 10]!;
+          const c11 = b[k + 11]!;
+          s0 += x0 * c0 + x1 * c1 + x2 * c2 + x3 * c3 + x4 * c4 + x5 * c5 + x6 * c6 + x7 * c7;
+          s1 += x0 * c1 + x1 * c2 + x2 * c3 + x3 * c4 + x4 * c5 + x5 * c6 + x6 * c7 + x7 * c8;
+          s2 += x0 * c2 + x1 * c3 + x2 * c4 + x3 * c5 + x4 * c6 + x5 * c7 + x6 * c8 + x7 * c9;
+          s3 += x0 * c3 + x1 * c4 + x2 * c5 + x3 * c6 + x4 * c7 + x5 * c8 + x6 * c9 + x7 * c10;
+          s4 += x0 * c4 + x1 * c5 + x2 * c6 + x3 * c7 + x4 * c8 + x5 * c9 + x6 * c10 + x7 * c11;
         }
       }
       const o = v * L;
