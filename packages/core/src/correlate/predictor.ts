@@ -83,13 +83,19 @@ export function predictorRows(
   }
 }
 
+const atIx = new Int32Array(4);
+const atIy = new Int32Array(4);
+const atWx = new Float64Array(4);
+const atWy = new Float64Array(4);
+const atTmp = new Float64Array(4);
+
 /** The interpolated grid field at one point (x, y), px. */
 export function predictorAt(gx: Float32Array, gy: Float32Array, ax: GridAxis, ay: GridAxis, x: number, y: number, out: Float64Array): void {
-  const ix = new Int32Array(4);
-  const iy = new Int32Array(4);
-  const wx = new Float64Array(4);
-  const wy = new Float64Array(4);
-  const tmp = new Float64Array(4);
+  const ix = atIx;
+  const iy = atIy;
+  const wx = atWx;
+  const wy = atWy;
+  const tmp = atTmp;
   axisTaps(ax, x, ix, wx, 0, tmp);
   axisTaps(ay, y, iy, wy, 0, tmp);
   let sx = 0;
