@@ -53,13 +53,19 @@ export class DirectWindowCorrelator {
     // missing (then counted pixel by pixel)
     let sa = 0;
     let sb = 0;
+    let sa1 = 0;
+    let sb1 = 0;
     for (let r = 0; r < n; r++) {
       let k = x0 + (y0 + r) * width;
-      for (let c = 0; c < n; c++, k++) {
+      for (let c = 0; c < n; c += 2, k += 2) {
         sa += A[k]!;
         sb += B[k]!;
+        sa1 += A[k + 1]!;
+        sb1 += B[k + 1]!;
       }
     }
+    sa += sa1;
+    sb += sb1;
     let na = n * n;
     let nb = n * n;
     const complete = sa === sa && sb === sb;
@@ -85,17 +91,25 @@ export class DirectWindowCorrelator {
     // construction and never touched since
     let ea = 0;
     let eb = 0;
+    let ea1 = 0;
+    let eb1 = 0;
     for (let r = 0, j = 0; r < n; r++) {
       let k = x0 + (y0 + r) * width;
       let jb = (r + R) * m + R;
       if (complete)
-        for (let c = 0; c < n; c++, k++, j++, jb++) {
+        for (let c = 0; c < n; c += 2, k += 2, j += 2, jb += 2) {
           const u = A[k]! - ma;
           const w = B[k]! - mb;
+          const u1 = A[k + 1]! - ma;
+          const w1 = B[k + 1]! - mb;
           a[j] = u;
           b[jb] = w;
+          a[j + 1] = u1;
+          b[jb + 1] = w1;
           ea += u * u;
           eb += w * w;
+          ea1 += u1 * u1;
+          eb1 += w1 * w1;
         }
       else
         for (let c = 0; c < n; c++, k++, j++, jb++) {
@@ -109,6 +123,8 @@ export class DirectWindowCorrelator {
           eb += w * w;
         }
     }
+    ea += ea1;
+    eb += eb1;
     if (!(ea > 0 && eb > 0)) {
       out.dx[idx] = out.dy[idx] = out.correlation[idx] = out.peakRatio[idx] = NaN;
       return true;
