@@ -83,7 +83,40 @@ export class Fft2d {
       const span = 4 * half;
       const s1 = n / (2 * half);
       const s2 = s1 >> 1;
-      for (let k = 0; k < half; k++) {
+      // k = 0: both twiddles 1
+      for (let g = 0; g < n; g += span) {
+        const p0 = g * n2;
+        const p1 = p0 + half * n2;
+        const p2 = p1 + half * n2;
+        const p3 = p2 + half * n2;
+        for (let j = 0; j < n2; j += 2) {
+          const x0r = buf[p0 + j]!;
+          const x0i = buf[p0 + j + 1]!;
+          const x1r = buf[p1 + j]!;
+          const x1i = buf[p1 + j + 1]!;
+          const x2r = buf[p2 + j]!;
+          const x2i = buf[p2 + j + 1]!;
+          const x3r = buf[p3 + j]!;
+          const x3i = buf[p3 + j + 1]!;
+          const y0r = x0r + x1r;
+          const y0i = x0i + x1i;
+          const y1r = x0r - x1r;
+          const y1i = x0i - x1i;
+          const y2r = x2r + x3r;
+          const y2i = x2i + x3i;
+          const u3r = -sign * (x2i - x3i);
+          const u3i = sign * (x2r - x3r);
+          buf[p0 + j] = y0r + y2r;
+          buf[p0 + j + 1] = y0i + y2i;
+          buf[p2 + j] = y0r - y2r;
+          buf[p2 + j + 1] = y0i - y2i;
+          buf[p1 + j] = y1r + u3r;
+          buf[p1 + j + 1] = y1i + u3i;
+          buf[p3 + j] = y1r - u3r;
+          buf[p3 + j + 1] = y1i - u3i;
+        }
+      }
+      for (let k = 1; k < half; k++) {
         const w1r = C[k * s1]!;
         const w1i = sign * S[k * s1]!;
         const w2r = C[k * s2]!;

@@ -54,39 +54,76 @@ export class FftWindowCorrelator {
   load(slot: 0 | 1, A: Float32Array, B: Float32Array, stride: number, x0: number, y0: number): number {
     const n = this.n;
     const z = this.z[slot];
+    // plain sums first (two partial sums each): NaN when some pixel is missing, then counted pixel by
+    // pixel
     let sa = 0;
     let sb = 0;
-    let na = 0;
-    let nb = 0;
+    let sa1 = 0;
+    let sb1 = 0;
     for (let r = 0; r < n; r++) {
       let k = x0 + (y0 + r) * stride;
-      for (let c = 0; c < n; c++, k++) {
-        const a = A[k]!;
-        const b = B[k]!;
-        if (a === a) (sa += a), na++;
-        if (b === b) (sb += b), nb++;
+      for (let c = 0; c < n; c += 2, k += 2) {
+        sa += A[k]!;
+        sb += B[k]!;
+        sa1 += A[k + 1]!;
+        sb1 += B[k + 1]!;
+      }
+    }
+    sa += sa1;
+    sb += sb1;
+    let na = n * n;
+    let nb = n * n;
+    const complete = sa === sa && sb === sb;
+    if (!complete) {
+      sa = sb = na = nb = 0;
+      for (let r = 0; r < n; r++) {
+        let k = x0 + (y0 + r) * stride;
+        for (let c = 0; c < n; c++, k++) {
+          const a = A[k]!;
+          const b = B[k]!;
+          if (a === a) (sa += a), na++;
+          if (b === b) (sb += b), nb++;
+        }
       }
     }
     const ma = na > 0 ? sa / na : 0;
     const mb = nb > 0 ? sb / nb : 0;
     let ea = 0;
     let eb = 0;
+    let ea1 = 0;
+    let eb1 = 0;
     let j = 0;
     for (let r = 0; r < n; r++) {
       let k = x0 + (y0 + r) * stride;
-      for (let c = 0; c < n; c++, k++, j += 2) {
-        const a = A[k]!;
-        const b = B[k]!;
-        const va = a === a ? a - ma : 0;
-        const vb = b === b ? b - mb : 0;
-        z[j] = va;
-        z[j + 1] = vb;
-        ea += va * va;
-        eb += vb * vb;
-      }
+      if (complete)
+        for (let c = 0; c < n; c += 2, k += 2, j += 4) {
+          const va = A[k]! - ma;
+          const vb = B[k]! - mb;
+          const wa = A[k + 1]! - ma;
+          const wb = B[k + 1]! - mb;
+          z[j] = va;
+          z[j + 1] = vb;
+          z[j + 2] = wa;
+          z[j + 3] = wb;
+          ea += va * va;
+          eb += vb * vb;
+          ea1 += wa * wa;
+          eb1 += wb * wb;
+        }
+      else
+        for (let c = 0; c < n; c++, k++, j += 2) {
+          const a = A[k]!;
+          const b = B[k]!;
+          const va = a === a ? a - ma : 0;
+          const vb = b === b ? b - mb : 0;
+          z[j] = va;
+          z[j + 1] = vb;
+          ea += va * va;
+          eb += vb * vb;
+        }
     }
-    this.energyA[slot] = ea;
-    this.energyB[slot] = eb;
+    this.energyA[slot] = ea + ea1;
+    this.energyB[slot] = eb + eb1;
     this.loaded[slot] = 1;
     return na < nb ? na : nb;
   }
