@@ -66,11 +66,12 @@ export interface MeasureDisplacementOptions {
    */
   interpolation?: 'lanczos4' | 'bspline3';
   /**
-   * Correlation of the last (deformation) pass: `'direct'` (default) computes the correlation only at
-   * lags |u|, |v| ≤ 2 px — the residual is a small fraction of a pixel there — and falls back to the
-   * FFT plane for windows whose peak is not at lag 0; its peak ratio compares the peak with the ring
-   * of lags at distance 2. `'fft'` uses the whole FFT plane (peak ratio against the highest other
-   * local maximum anywhere). Earlier passes always use the FFT plane.
+   * Correlation of the deformation passes (every pass after the first): `'direct'` (default) computes
+   * the correlation only at lags |u|, |v| ≤ 2 px — after deformation the residual is a small fraction
+   * of a pixel — and falls back to the FFT plane for windows whose residual exceeds ½ px; its peak
+   * ratio compares the peak with the ring of lags at distance 2 (the median test's keep rule re-judges
+   * flagged vectors on the whole FFT plane). `'fft'` uses the whole FFT plane (peak ratio against the
+   * highest other local maximum anywhere). The first pass always uses the FFT plane.
    */
   refine?: 'direct' | 'fft';
 }
