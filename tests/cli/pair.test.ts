@@ -62,6 +62,17 @@ describe('rhofield displacement REF MEAS --out DIR', () => {
     expect(npy.subarray(10, 120).toString('latin1')).toMatch(/'descr': '<f4'.*'shape': \(\d+, \d+, 2\)/);
   });
 
+  it('--figure-width/--dpi size the figures for print (PNG width = mm/25.4·dpi); --dpi alone is a usage error', async () => {
+    const out = path.join(dir, 'print');
+    const r = await cli(['displacement', ref, meas, '--out', out, '--figure-width', '80', '--dpi', '300', '--format', 'png']);
+    expect(r.code, r.err).toBe(0);
+    const png = readFileSync(path.join(out, 'displacement_magnitude.png'));
+    expect(png.readUInt32BE(16)).toBe(Math.round((80 / 25.4) * 300)); // IHDR width (PNG spec, ISO/IEC 15948)
+    const bad = await cli(['displacement', ref, meas, '--out', path.join(dir, 'print2'), '--dpi', '300']);
+    expect(bad.code).toBe(2);
+    expect(bad.err).toMatch(/--dpi.*--figure-width/);
+  });
+
   it('refuses to overwrite existing results without --force (exit 2), replaces them with --force', async () => {
     const out = path.join(dir, 'ok');
     const r = await cli(['displacement', ref, meas, '--out', out, '--threads', '1']);

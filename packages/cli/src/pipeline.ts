@@ -38,6 +38,8 @@ export interface PairOptions {
   formats?: string;
   threads?: number;
   interpolation?: 'lanczos4' | 'bspline3';
+  /** Figure print size: width in mm and resolution (PNG width = widthMm/25.4·dpi px); default 800 px wide. */
+  figure?: { widthMm?: number; dpi?: number };
 }
 
 export interface PairJob {
@@ -118,7 +120,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
   await t('write_displacement', async () => {
     const set = displacementFieldSet(disp, { ...(xM ? { xM } : {}), ...(yM ? { yM } : {}), settings });
     if (formats.includes('npy')) await fsp.writeFile(path.join(outDir, 'displacement.npy'), fieldToNpy([disp.dxPx, disp.dyPx]));
-    await writeFieldSet(outDir, 'displacement', set, formats, { figure: { vectors: 'displacement' } });
+    await writeFieldSet(outDir, 'displacement', set, formats, { figure: { vectors: 'displacement', ...o.figure } });
   });
 
   let density: ReturnType<typeof reconstructDensity> | null = null;
@@ -129,7 +131,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
     await t('write_density', async () => {
       const set = densityFieldSet(density!, { xPx: disp.grid.xPx, yPx: disp.grid.yPx }, { settings });
       if (formats.includes('npy')) await fsp.writeFile(path.join(outDir, 'density.npy'), fieldToNpy(density!.rho));
-      await writeFieldSet(outDir, 'density', set, formats, { figure: { vectors: 'deflection' } });
+      await writeFieldSet(outDir, 'density', set, formats, { figure: { vectors: 'deflection', ...o.figure } });
     });
   }
 

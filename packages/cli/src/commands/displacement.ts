@@ -3,8 +3,8 @@
  * the single-pair commands. Both share the displacement options; density adds the setup.
  */
 import type { Command } from 'commander';
-import { describeSchedule, invalidParameter, loadSetup } from '@rhofield/core';
-import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, requireFile, StageProgress, type GlobalOpts } from '../common.js';
+import { describeSchedule, invalidParameter, loadSetup, RhofieldError } from '@rhofield/core';
+import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, requireFile, StageProgress, type GlobalOpts } from '../common.js';
 import { DEFAULT_FORMATS, processPair, type PairOptions } from '../pipeline.js';
 
 interface PairCliOpts extends GlobalOpts {
@@ -20,6 +20,8 @@ interface PairCliOpts extends GlobalOpts {
   measPage?: string;
   force?: boolean;
   setup?: string;
+  figureWidth?: string;
+  dpi?: string;
 }
 
 const SAFETY = `
@@ -35,6 +37,8 @@ export function addDisplacementOptions(cmd: Command): Command {
     .option('--mask <file>', 'mask image, same size as the photographs; non-zero pixels are used')
     .option('--flow-free <x0,y0,x1,y1>', 'flow-free rectangle in px whose mean displacement is removed (camera shake)')
     .option('--format <list>', 'output formats, any of npy,h5,vti,mat,csv,png,svg', DEFAULT_FORMATS)
+    .option('--figure-width <mm>', 'print width of the figures in mm (with --dpi; default: 800 px wide)')
+    .option('--dpi <n>', 'figure resolution for print, 72–1200 (default 96 with --figure-width)')
     .option('--threads <n>', 'threads for correlation (default: all cores)')
     .option('--ref-page <n>', 'page of a multi-page TIFF reference (0-based)')
     .option('--meas-page <n>', 'page of a multi-page TIFF measurement (0-based)')
@@ -58,7 +62,11 @@ export function pairOptionsFromCli(o: PairCliOpts): PairOptions {
     flowFreeRegionPx = v as [number, number, number, number];
   }
   if (o.mask) requireFile('mask', o.mask);
+  const widthMm = parseNumOpt('--figure-width', o.figureWidth, 20, 1000);
+  const dpi = parseNumOpt('--dpi', o.dpi, 72, 1200);
+  if (dpi !== undefined && widthMm === undefined) throw new RhofieldError('usage', '--dpi needs --figure-width (the print width in mm); add --figure-width or drop --dpi');
   return {
+    ...(widthMm !== undefined ? { figure: { widthMm, ...(dpi !== undefined ? { dpi } : {}) } } : {}),
     windowPx,
     ...(stepPx !== undefined ? { stepPx } : {}),
     passes,

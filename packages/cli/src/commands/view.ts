@@ -16,6 +16,7 @@ import {
   invalidParameter,
   knifeEdgeView,
   shadowgraphView,
+  RhofieldError,
   VERSION,
   viewFigure,
   type Field,
@@ -30,6 +31,8 @@ interface ViewOpts extends GlobalOpts {
   out?: string;
   force?: boolean;
   levels?: string;
+  figureWidth?: string;
+  dpi?: string;
 }
 
 function readField(dir: string, name: string): Field {
@@ -108,7 +111,10 @@ async function runView(kindRaw: string, dir: string, o: ViewOpts): Promise<void>
     view = contourView(readField(dir, rhoName), { quantity: isT ? 'temperature T' : 'density ρ', unit: isT ? 'K' : 'kg/m^3', count: 10 });
     title = isT ? 'temperature contours' : 'density contours';
   }
-  const fig = viewFigure(view, { xMm, yMm, axisUnit: haveM ? 'mm' : 'px', title });
+  const widthMm = parseNumOpt('--figure-width', o.figureWidth, 20, 1000);
+  const dpi = parseNumOpt('--dpi', o.dpi, 72, 1200);
+  if (dpi !== undefined && widthMm === undefined) throw new RhofieldError('usage', '--dpi needs --figure-width (the print width in mm); add --figure-width or drop --dpi');
+  const fig = viewFigure(view, { xMm, yMm, axisUnit: haveM ? 'mm' : 'px', title, ...(widthMm !== undefined ? { widthMm } : {}), ...(dpi !== undefined ? { dpi } : {}) });
   const base = o.out ?? path.join(dir, `view_${kind}${kind === 'knife-edge' ? `_${angle}deg` : ''}.png`);
   if (existsSync(base) && !o.force) throw invalidParameter('--out', 'a file that does not exist yet (or pass --force)', base);
   const png = await fig.png();
@@ -127,6 +133,8 @@ export function register(program: Command): void {
     .option('--angle <deg>', 'knife-edge: direction of sensitivity in degrees; 0° = horizontal deflection (a vertical knife edge), 90° = upward', '0')
     .option('--levels <what>', "contour: 'rho' (default) or 'T' (temperature, when present)")
     .option('--out <file.png>', 'output PNG (an SVG is written beside it); default RESULT_DIR/view_<kind>.png')
+    .option('--figure-width <mm>', 'print width in mm (with --dpi; default: 800 px wide)')
+    .option('--dpi <n>', 'resolution for print, 72–1200 (default 96 with --figure-width)')
     .option('--force', 'replace an existing output file')
     .option('--json', 'machine summary on stdout')
     .option('--quiet', 'no messages')
