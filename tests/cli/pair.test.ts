@@ -51,7 +51,7 @@ describe('rhofield displacement REF MEAS --out DIR', () => {
     expect(res.settings.windowPx).toBe(32);
     // every setting with its default filled in (issue: provenance)
     expect(res.settings).toMatchObject({ stepPx: 16, passes: 3, interpolation: 'lanczos4', refine: 'direct', masked: false });
-    expect(res.settings.medianTest).toMatchObject({ threshold: 2, epsilonPx: 0.1, keepPeakRatio: 3 });
+    expect(res.settings.medianTest).toMatchObject({ threshold: 2, epsilonPx: 0.1, keepPeakRatio: 3, keepCorrelation: 0.7 });
     expect(res.settings.schedule.at(-1)).toEqual({ windowPx: 32, stepPx: 16 });
     expect(res.version).toMatch(/^\d+\.\d+\.\d+$/);
     expect(res).toHaveProperty('gitCommit');

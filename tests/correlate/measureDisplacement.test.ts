@@ -140,7 +140,7 @@ describe('measureDisplacement: single pass and median test defaults', () => {
     const f = (x: number): [number, number] => [2 * Math.sin((2 * Math.PI * x) / 64), 0];
     const { ref, meas } = synthPair({ width: 256, height: 256, diameterPx: 2.8, seed: 7, displacement: (x) => f(x) });
     const def = await measureDisplacement(ref, meas, { threads: 1, windowPx: 32, stepPx: 16 });
-    const pub = await measureDisplacement(ref, meas, { threads: 1, windowPx: 32, stepPx: 16, medianKeepPeakRatio: Infinity });
+    const pub = await measureDisplacement(ref, meas, { threads: 1, windowPx: 32, stepPx: 16, medianKeepPeakRatio: Infinity, medianKeepCorrelation: Infinity });
     const crestError = (r: typeof def): number => {
       let s = 0;
       let n = 0;
@@ -156,5 +156,30 @@ describe('measureDisplacement: single pass and median test defaults', () => {
     // measured (seed 7): crest RMS error 0.74 px with the defaults, 1.44 px with the published test
     expect(def.counts.replaced).toBeLessThan(pub.counts.replaced / 2);
     expect(crestError(def)).toBeLessThan(0.7 * crestError(pub));
+  });
+
+  it('a patch of unrelated dots in the measurement image: the vectors inside it are flagged and replaced (the keep rule keeps no spurious peak)', async () => {
+    // truth: uniform (1.3, −0.7) px everywhere; inside a 48×48 patch the measurement shows other dots,
+    // so any peak found there is spurious (its normalized correlation stays near 0.2–0.35)
+    for (const seed of [3, 5]) {
+      const p = synthPair({ width: 256, height: 256, diameterPx: 2.8, seed, displacement: { kind: 'uniform', dx: 1.3, dy: -0.7 } });
+      const q = synthPair({ width: 256, height: 256, diameterPx: 2.8, seed: seed + 100, displacement: { kind: 'uniform', dx: 0, dy: 0 } });
+      const x0 = 96;
+      const S = 48;
+      for (let y = x0; y < x0 + S; y++) for (let x = x0; x < x0 + S; x++) p.meas.data[x + y * 256] = q.meas.data[x + y * 256]!;
+      const r = await measureDisplacement(p.ref, p.meas, { threads: 1, windowPx: 32 });
+      let inside = 0;
+      for (let j = 0; j < r.grid.rows; j++)
+        for (let i = 0; i < r.grid.cols; i++) {
+          const x = r.grid.xPx[i]!;
+          const y = r.grid.yPx[j]!;
+          if (!(x - 15.5 >= x0 && x + 15.5 < x0 + S && y - 15.5 >= x0 && y + 15.5 < x0 + S)) continue;
+          const k = i + j * r.grid.cols;
+          inside++;
+          expect(r.status[k], `seed ${seed} (${x}, ${y})`).toBe(1); // replaced
+          expect(Math.hypot(r.dxPx.data[k]! - 1.3, r.dyPx.data[k]! + 0.7)).toBeLessThan(0.25);
+        }
+      expect(inside).toBe(4);
+    }
   });
 });

@@ -40,6 +40,7 @@ export interface ScheduleOptions {
   medianEpsilonPx?: number;
   interpolation?: 'lanczos4' | 'bspline3';
   medianKeepPeakRatio?: number;
+  medianKeepCorrelation?: number;
   refine?: 'direct' | 'fft';
   hasMask?: boolean;
   /** Image size, when known (limits the coarse window). */
@@ -61,6 +62,14 @@ export function buildSchedule(o: ScheduleOptions): PassPlan[] {
   } else plan.push({ windowPx: W, stepPx: step, deform: false });
   while (plan.length < passes) plan.push({ windowPx: W, stepPx: step, deform: true });
   return plan;
+}
+
+/** The keep-or-replace rule of the median test, in words. */
+function keepRule(ratio: number, corr: number): string {
+  const parts: string[] = [];
+  if (ratio < Infinity) parts.push(`their peak ratio (whole FFT correlation plane) is ≥ ${ratio}`);
+  if (corr < Infinity) parts.push(`their normalized correlation peak is ≥ ${corr}`);
+  return parts.length ? ` unless ${parts.join(' or ')}` : ' (every flagged vector, as published)';
 }
 
 /**
@@ -90,9 +99,7 @@ export function describeSchedule(o: ScheduleOptions = {}): string {
   });
   lines.push(
     `after every pass: normalized median test over the 8 neighbours (threshold ${thr}, ε = ${eps} px); outliers replaced by the neighbour median` +
-      ((o.medianKeepPeakRatio ?? 3) < Infinity
-        ? ` unless their peak ratio (whole FFT correlation plane) is ≥ ${o.medianKeepPeakRatio ?? 3}`
-        : ' (every flagged vector, as published)'),
+      keepRule(o.medianKeepPeakRatio ?? 3, o.medianKeepCorrelation ?? 0.7),
     'sub-pixel peak: three-point Gaussian fit (parabolic when a neighbour ≤ 0) after undoing the loss-of-pairs weighting; peak ratio = primary / highest other local maximum outside the 3×3 neighbourhood' +
       ((o.refine ?? 'direct') === 'direct' ? ' (for lag-limited vectors: / highest value at lag distance 2)' : ''),
   );
