@@ -198,7 +198,10 @@ export class DirectWindowCorrelator {
       if (Math.abs(u - pu) <= 1 && Math.abs(v - pv) <= 1) continue;
       if (rr[i]! > second) second = rr[i]!;
     }
-    const ratio = second > 0 ? best / second : PEAK_RATIO_CAP;
+    // no positive correlation around the peak within ±2 px: this plane cannot judge the peak's
+    // distinctness (a near-zero plane would otherwise report the cap); the whole FFT plane decides
+    if (!(second > 0)) return false;
+    const ratio = best / second;
     out.peakRatio[idx] = ratio > PEAK_RATIO_CAP ? PEAK_RATIO_CAP : ratio;
     return true;
   }

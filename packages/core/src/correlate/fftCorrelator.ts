@@ -301,6 +301,7 @@ export function analysePeak(plane: Float64Array, o: number, n: number, energy: n
         second = v;
     }
   }
-  const ratio = second > 0 ? best / second : PEAK_RATIO_CAP;
+  // a non-positive primary peak is no match at all: ratio 1 (ambiguous), never the cap
+  const ratio = !(best > 0) ? 1 : second > 0 ? best / second : PEAK_RATIO_CAP;
   out.peakRatio[idx] = ratio > PEAK_RATIO_CAP ? PEAK_RATIO_CAP : ratio;
 }
