@@ -18,6 +18,10 @@
 import type { CorrelationOutputs } from './fftCorrelator.js';
 import { PEAK_RATIO_CAP } from './fftCorrelator.js';
 import { gaussianPeak3 } from './gaussianPeak3.js';
+import { windowSums } from './windowSums.js';
+
+/** Scratch for windowSums (one per thread; no allocation per window). */
+const SUMS = new Float64Array(4);
 
 const R = 2; // the unrolled lag loop below assumes R = 2
 const L = 2 * R + 1;
@@ -49,38 +53,13 @@ export class DirectWindowCorrelator {
     const a = this.a;
     const b = this.b;
     const m = n + 2 * R;
-    // means over the window's finite pixels: first a plain sum, which is NaN when some pixel is
-    // missing (then counted pixel by pixel)
-    let sa = 0;
-    let sb = 0;
-    let sa1 = 0;
-    let sb1 = 0;
-    for (let r = 0; r < n; r++) {
-      let k = x0 + (y0 + r) * width;
-      for (let c = 0; c < n; c += 2, k += 2) {
-        sa += A[k]!;
-        sb += B[k]!;
-        sa1 += A[k + 1]!;
-        sb1 += B[k + 1]!;
-      }
-    }
-    sa += sa1;
-    sb += sb1;
-    let na = n * n;
-    let nb = n * n;
-    const complete = sa === sa && sb === sb;
-    if (!complete) {
-      sa = sb = na = nb = 0;
-      for (let r = 0; r < n; r++) {
-        let k = x0 + (y0 + r) * width;
-        for (let c = 0; c < n; c++, k++) {
-          const va = A[k]!;
-          const vb = B[k]!;
-          if (va === va) (sa += va), na++;
-          if (vb === vb) (sb += vb), nb++;
-        }
-      }
-    }
+    // means over the window's finite pixels
+    windowSums(A, B, width, x0, y0, n, SUMS);
+    const sa = SUMS[0]!;
+    const sb = SUMS[1]!;
+    const na = SUMS[2]!;
+    const nb = SUMS[3]!;
+    const complete = na === n * n && nb === n * n;
     if (na < minPixels || nb < minPixels) {
       out.dx[idx] = out.dy[idx] = out.correlation[idx] = out.peakRatio[idx] = NaN;
       return true;

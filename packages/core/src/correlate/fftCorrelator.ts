@@ -18,6 +18,10 @@
  */
 import { Fft2d } from './fft2d.js';
 import { gaussianPeak3 } from './gaussianPeak3.js';
+import { windowSums } from './windowSums.js';
+
+/** Scratch for windowSums (one per thread; no allocation per window). */
+const SUMS = new Float64Array(4);
 
 /** Per-vector outputs written by the correlators (row-major over the vector grid). */
 export interface CorrelationOutputs {
@@ -54,38 +58,12 @@ export class FftWindowCorrelator {
   load(slot: 0 | 1, A: Float32Array, B: Float32Array, stride: number, x0: number, y0: number): number {
     const n = this.n;
     const z = this.z[slot];
-    // plain sums first (two partial sums each): NaN when some pixel is missing, then counted pixel by
-    // pixel
-    let sa = 0;
-    let sb = 0;
-    let sa1 = 0;
-    let sb1 = 0;
-    for (let r = 0; r < n; r++) {
-      let k = x0 + (y0 + r) * stride;
-      for (let c = 0; c < n; c += 2, k += 2) {
-        sa += A[k]!;
-        sb += B[k]!;
-        sa1 += A[k + 1]!;
-        sb1 += B[k + 1]!;
-      }
-    }
-    sa += sa1;
-    sb += sb1;
-    let na = n * n;
-    let nb = n * n;
-    const complete = sa === sa && sb === sb;
-    if (!complete) {
-      sa = sb = na = nb = 0;
-      for (let r = 0; r < n; r++) {
-        let k = x0 + (y0 + r) * stride;
-        for (let c = 0; c < n; c++, k++) {
-          const a = A[k]!;
-          const b = B[k]!;
-          if (a === a) (sa += a), na++;
-          if (b === b) (sb += b), nb++;
-        }
-      }
-    }
+    windowSums(A, B, stride, x0, y0, n, SUMS);
+    const sa = SUMS[0]!;
+    const sb = SUMS[1]!;
+    const na = SUMS[2]!;
+    const nb = SUMS[3]!;
+    const complete = na === n * n && nb === n * n;
     const ma = na > 0 ? sa / na : 0;
     const mb = nb > 0 ? sb / nb : 0;
     let ea = 0;
