@@ -19,6 +19,7 @@ import type { CorrelationOutputs } from './fftCorrelator.js';
 import { PEAK_RATIO_CAP } from './fftCorrelator.js';
 import { gaussianPeak3 } from './gaussianPeak3.js';
 import { windowSums } from './windowSums.js';
+import { simdKernels, type SimdKernels } from './simdKernels.js';
 
 /** Scratch for windowSums (one per thread; no allocation per window). */
 const SUMS = new Float64Array(4);
@@ -32,15 +33,56 @@ function g(u: number, n: number): number {
 
 export class DirectWindowCorrelator {
   readonly n: number;
+  /** Mean-removed windows: a is n × n, b sits inside a zero border of R pixels ((n + 2R)²). */
   private readonly a: Float64Array;
   private readonly b: Float64Array;
+  /** The 5 × 5 correlation sums, lag row v at 5·v. */
   private readonly r = new Float64Array(L * L);
+  /** SIMD kernels (null: TypeScript only) and byte offsets of a, b and the results in their memory. */
+  private readonly K: SimdKernels | null;
+  private readonly at: readonly [number, number, number] = [0, 0, 0];
+  /** View of the SIMD results: sums, counts and energies (6), then the 25 lag sums. */
+  private res: Float64Array = new Float64Array(0);
+  private generation = -1;
 
   constructor(n: number) {
     if (n % 8 !== 0) throw new Error(`DirectWindowCorrelator: window ${n} px is not a multiple of 8`);
     this.n = n;
+    const m = n + 2 * R;
     this.a = new Float64Array(n * n);
-    this.b = new Float64Array((n + 2 * R) * (n + 2 * R));
+    this.b = new Float64Array(m * m);
+    this.K = simdKernels();
+    if (this.K) {
+      const K = this.K;
+      this.at = [K.alloc(n * n * 4), K.alloc(m * m * 4), K.alloc((6 + L * L) * 8)];
+      K.f32.fill(0, this.at[1] / 4, this.at[1] / 4 + m * m); // the zero border
+    }
+  }
+
+  /** Whether {@link runStrip} is available (WebAssembly SIMD present). */
+  get simd(): boolean {
+    return this.K !== null;
+  }
+
+  /**
+   * {@link run} on windows already in the SIMD kernels' memory: a strip of image rows (row stride
+   * `stride` f32) of A at byte offset `stripA` and of B at `stripB`, window columns x0 … x0 + n − 1.
+   */
+  runStrip(stripA: number, stripB: number, stride: number, x0: number, minPixels: number, out: CorrelationOutputs, idx: number): boolean {
+    const K = this.K!;
+    K.k.direct_window(stripA + 4 * x0, stripB + 4 * x0, stride, this.n, this.at[0], this.at[1], this.at[2]);
+    if (this.generation !== K.generation) {
+      this.res = new Float64Array(K.f64.buffer, this.at[2], 6 + L * L);
+      this.generation = K.generation;
+    }
+    const res = this.res;
+    if (res[2]! < minPixels || res[3]! < minPixels || !(res[4]! > 0 && res[5]! > 0)) {
+      out.dx[idx] = out.dy[idx] = out.correlation[idx] = out.peakRatio[idx] = NaN;
+      return true;
+    }
+    const rr = this.r;
+    for (let i = 0; i < L * L; i++) rr[i] = res[6 + i]!;
+    return this.peak(res[4]!, res[5]!, out, idx);
   }
 
   /**
@@ -108,54 +150,14 @@ export class DirectWindowCorrelator {
       out.dx[idx] = out.dy[idx] = out.correlation[idx] = out.peakRatio[idx] = NaN;
       return true;
     }
+    lagSums(a, b, n, this.r);
+    return this.peak(ea, eb, out, idx);
+  }
+
+  /** Peak, sub-pixel fit and peak ratio from the lag sums in this.r (energies ea, eb). */
+  private peak(ea: number, eb: number, out: CorrelationOutputs, idx: number): boolean {
+    const n = this.n;
     const rr = this.r;
-    // R(u, v) for the 5 lags u of each lag row v at once, 8 columns of a per step (n is a multiple of 8)
-    for (let v = 0; v < L; v++) {
-      let s0 = 0;
-      let s1 = 0;
-      let s2 = 0;
-      let s3 = 0;
-      let s4 = 0;
-      for (let r = 0; r < n; r++) {
-        const ao = r * n;
-        const bo = (r + v) * m;
-        for (let c = 0; c < n; c += 8) {
-          const q = ao + c;
-          const k = bo + c;
-          const x0 = a[q]!;
-          const x1 = a[q + 1]!;
-          const x2 = a[q + 2]!;
-          const x3 = a[q + 3]!;
-          const x4 = a[q + 4]!;
-          const x5 = a[q + 5]!;
-          const x6 = a[q + 6]!;
-          const x7 = a[q + 7]!;
-          const c0 = b[k]!;
-          const c1 = b[k + 1]!;
-          const c2 = b[k + 2]!;
-          const c3 = b[k + 3]!;
-          const c4 = b[k + 4]!;
-          const c5 = b[k + 5]!;
-          const c6 = b[k + 6]!;
-          const c7 = b[k + 7]!;
-          const c8 = b[k + 8]!;
-          const c9 = b[k + 9]!;
-          const c10 = b[k + 10]!;
-          const c11 = b[k + 11]!;
-          s0 += x0 * c0 + x1 * c1 + x2 * c2 + x3 * c3 + x4 * c4 + x5 * c5 + x6 * c6 + x7 * c7;
-          s1 += x0 * c1 + x1 * c2 + x2 * c3 + x3 * c4 + x4 * c5 + x5 * c6 + x6 * c7 + x7 * c8;
-          s2 += x0 * c2 + x1 * c3 + x2 * c4 + x3 * c5 + x4 * c6 + x5 * c7 + x6 * c8 + x7 * c9;
-          s3 += x0 * c3 + x1 * c4 + x2 * c5 + x3 * c6 + x4 * c7 + x5 * c8 + x6 * c9 + x7 * c10;
-          s4 += x0 * c4 + x1 * c5 + x2 * c6 + x3 * c7 + x4 * c8 + x5 * c9 + x6 * c10 + x7 * c11;
-        }
-      }
-      const o = v * L;
-      rr[o] = s0;
-      rr[o + 1] = s1;
-      rr[o + 2] = s2;
-      rr[o + 3] = s3;
-      rr[o + 4] = s4;
-    }
     let best = -Infinity;
     let bi = 0;
     for (let i = 0; i < L * L; i++) if (rr[i]! > best) (best = rr[i]!), (bi = i);
@@ -183,5 +185,57 @@ export class DirectWindowCorrelator {
     const ratio = best / second;
     out.peakRatio[idx] = ratio > PEAK_RATIO_CAP ? PEAK_RATIO_CAP : ratio;
     return true;
+  }
+}
+
+/** R(u, v) for the 5 × 5 lags (TypeScript kernel; corr25 in kernels.wat is the SIMD one). */
+function lagSums(a: Float64Array, b: Float64Array, n: number, rr: Float64Array): void {
+  const m = n + 2 * R;
+  // R(u, v) for the 5 lags u of each lag row v at once, 8 columns of a per step (n is a multiple of 8)
+  for (let v = 0; v < L; v++) {
+    let s0 = 0;
+    let s1 = 0;
+    let s2 = 0;
+    let s3 = 0;
+    let s4 = 0;
+    for (let r = 0; r < n; r++) {
+      const ao = r * n;
+      const bo = (r + v) * m;
+      for (let c = 0; c < n; c += 8) {
+        const q = ao + c;
+        const k = bo + c;
+        const x0 = a[q]!;
+        const x1 = a[q + 1]!;
+        const x2 = a[q + 2]!;
+        const x3 = a[q + 3]!;
+        const x4 = a[q + 4]!;
+        const x5 = a[q + 5]!;
+        const x6 = a[q + 6]!;
+        const x7 = a[q + 7]!;
+        const c0 = b[k]!;
+        const c1 = b[k + 1]!;
+        const c2 = b[k + 2]!;
+        const c3 = b[k + 3]!;
+        const c4 = b[k + 4]!;
+        const c5 = b[k + 5]!;
+        const c6 = b[k + 6]!;
+        const c7 = b[k + 7]!;
+        const c8 = b[k + 8]!;
+        const c9 = b[k + 9]!;
+        const c10 = b[k + 10]!;
+        const c11 = b[k + 11]!;
+        s0 += x0 * c0 + x1 * c1 + x2 * c2 + x3 * c3 + x4 * c4 + x5 * c5 + x6 * c6 + x7 * c7;
+        s1 += x0 * c1 + x1 * c2 + x2 * c3 + x3 * c4 + x4 * c5 + x5 * c6 + x6 * c7 + x7 * c8;
+        s2 += x0 * c2 + x1 * c3 + x2 * c4 + x3 * c5 + x4 * c6 + x5 * c7 + x6 * c8 + x7 * c9;
+        s3 += x0 * c3 + x1 * c4 + x2 * c5 + x3 * c6 + x4 * c7 + x5 * c8 + x6 * c9 + x7 * c10;
+        s4 += x0 * c4 + x1 * c5 + x2 * c6 + x3 * c7 + x4 * c8 + x5 * c9 + x6 * c10 + x7 * c11;
+      }
+    }
+    const o = v * L;
+    rr[o] = s0;
+    rr[o + 1] = s1;
+    rr[o + 2] = s2;
+    rr[o + 3] = s3;
+    rr[o + 4] = s4;
   }
 }

@@ -5,8 +5,9 @@
  * Internal to the correlate stage.
  */
 import { prefilterCols, prefilterRows, sampleBspline } from './bspline.js';
-import { keysRow } from './keysCubic.js';
-import { lanczos4Row } from './lanczos.js';
+import { keysRow, sampleKeys } from './keysCubic.js';
+import { lanczos4Row, sampleLanczos4 } from './lanczos.js';
+import { simdKernels, type SimdKernels } from './simdKernels.js';
 import { DirectWindowCorrelator } from './directCorrelator.js';
 import { FftWindowCorrelator, type CorrelationOutputs } from './fftCorrelator.js';
 import { axisTaps, type GridAxis } from './predictor.js';
@@ -172,6 +173,13 @@ export function runChunk(img: EngineImages, task: EngineTask, k: number): void {
  * a high-order interpolator (Scarano 2002, Meas. Sci. Technol. 13:R1, central difference image correction).
  */
 function deformRows(img: EngineImages, t: DeformTask, y0: number, y1: number): void {
+  if (t.interpolation !== 'bspline3') {
+    const K = simdKernels();
+    if (K) {
+      deformRowsSimd(img, t, y0, y1, K);
+      return;
+    }
+  }
   const { width, height, ref, meas, coefRef, coefMeas, defRef, defMeas, mask } = img;
   const { predX, predY } = t;
   if (rowHx.length < width) {
@@ -219,6 +227,89 @@ function deformRows(img: EngineImages, t: DeformTask, y0: number, y1: number): v
   }
 }
 
+/**
+ * {@link deformRows} with the SIMD kernels (Lanczos-4 or Keys): the half predictor of the chunk's rows
+ * is written to the kernels' memory, the image rows the kernels reach are copied in, and the deformed
+ * rows copied out; positions whose kernel leaves the image are evaluated by the TypeScript samplers
+ * (border rules). Same results as the TypeScript path to single precision.
+ */
+function deformRowsSimd(img: EngineImages, t: DeformTask, y0: number, y1: number, K: SimdKernels): void {
+  const { width, height, ref, meas, defRef, defMeas, mask } = img;
+  const { predX, predY } = t;
+  const lanczos = t.interpolation === 'lanczos4';
+  const k = K.k;
+  const plane = (y1 - y0) * width;
+  // predictor rows the chunk's rows interpolate between (taps are monotonic in y)
+  axisTaps(t.ay, y0, tapIdx, tapW, 0, tapTmp);
+  const g0 = tapIdx[0]!;
+  axisTaps(t.ay, y1 - 1, tapIdx, tapW, 0, tapTmp);
+  const g1 = tapIdx[3]! + 1;
+  const gp = (g1 - g0) * width;
+  // scratch (bytes): min/max (16), hx, hy, outRef, outMeas (f32 planes), predictor rows X then Y,
+  // then the two source bands
+  const hxAt = K.scratch(16 + plane * 16 + gp * 8) + 16;
+  const mmAt = hxAt - 16;
+  const hyAt = hxAt + plane * 4;
+  const outRef = hyAt + plane * 4;
+  const outMeas = outRef + plane * 4;
+  const pxAt = outMeas + plane * 4;
+  const pyAt = pxAt + gp * 4;
+  K.f32.set(predX.subarray(g0 * width, g1 * width), pxAt / 4);
+  K.f32.set(predY.subarray(g0 * width, g1 * width), pyAt / 4);
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (let y = y0; y < y1; y++) {
+    axisTaps(t.ay, y, tapIdx, tapW, 0, tapTmp);
+    const o = (y - y0) * width * 4;
+    const r = pxAt - g0 * width * 4;
+    const w4 = width * 4;
+    k.half_pred(r + tapIdx[0]! * w4, r + tapIdx[1]! * w4, r + tapIdx[2]! * w4, r + tapIdx[3]! * w4, gp * 4, tapW[0]!, tapW[1]!, tapW[2]!, tapW[3]!, width, hxAt + o, hyAt + o, mmAt);
+    const a = K.f32[mmAt / 4]!;
+    const b = K.f32[mmAt / 4 + 1]!;
+    if (!(a <= b)) (lo = -height), (hi = height); // NaN somewhere: take every row
+    if (a < lo) lo = a;
+    if (b > hi) hi = b;
+  }
+  // source rows reached: y ± h with kernel rows −3 … +4 (Lanczos-4; Keys needs −1 … +2)
+  const band = (s: number): [number, number] => {
+    const a = Math.max(0, Math.floor(Math.min(y0 + s * lo, y0 + s * hi)) - 3);
+    const b = Math.min(height, Math.floor(Math.max(y1 - 1 + s * lo, y1 - 1 + s * hi)) + 5);
+    return a < b ? [a, b] : [0, 0];
+  };
+  const [ra, rb] = band(-1);
+  const [ma, mb] = band(1);
+  const srcRef = pyAt + gp * 4;
+  const srcMeas = srcRef + (rb - ra) * width * 4;
+  K.scratch(srcMeas + (mb - ma) * width * 4 - mmAt);
+  const f32 = K.f32;
+  f32.set(ref.subarray(ra * width, rb * width), srcRef / 4);
+  f32.set(meas.subarray(ma * width, mb * width), srcMeas / 4);
+  let bad = 0;
+  for (let y = y0; y < y1; y++) {
+    const i = (y - y0) * width * 4;
+    const badR = lanczos ? k.lanczos4_row(K.lanczosTable, srcRef, ra, width, height, y, hxAt + i, hyAt + i, -1, outRef + i) : k.keys_row(srcRef, ra, width, height, y, hxAt + i, hyAt + i, -1, outRef + i);
+    const badM = lanczos ? k.lanczos4_row(K.lanczosTable, srcMeas, ma, width, height, y, hxAt + i, hyAt + i, 1, outMeas + i) : k.keys_row(srcMeas, ma, width, height, y, hxAt + i, hyAt + i, 1, outMeas + i);
+    if (badR + badM === 0) continue;
+    bad++;
+    // kernels reaching beyond the image: the TypeScript samplers' border rules
+    const sample = lanczos ? sampleLanczos4 : sampleKeys;
+    for (let x = 0; x < width; x++) {
+      const q = i / 4 + x;
+      const h = f32[hxAt / 4 + q]!;
+      const v = f32[hyAt / 4 + q]!;
+      if (!(f32[outRef / 4 + q]! === f32[outRef / 4 + q]!)) f32[outRef / 4 + q] = sample(ref, width, height, x - h, y - v);
+      if (!(f32[outMeas / 4 + q]! === f32[outMeas / 4 + q]!)) f32[outMeas / 4 + q] = sample(meas, width, height, x + h, y + v);
+    }
+  }
+  defRef.set(f32.subarray(outRef / 4, outRef / 4 + plane), y0 * width);
+  defMeas.set(f32.subarray(outMeas / 4, outMeas / 4 + plane), y0 * width);
+  // a pixel missing in either image (or masked) is dropped from both (as in deformRows); without a
+  // mask only rows that reached beyond the image can hold one
+  if (bad > 0 || mask)
+    for (let q = y0 * width; q < y1 * width; q++)
+      if ((mask && !mask[q]) || !(defRef[q]! === defRef[q]!) || !(defMeas[q]! === defMeas[q]!)) defRef[q] = defMeas[q] = NaN;
+}
+
 function correlateRows(img: EngineImages, t: CorrelateTask, r0: number, r1: number): void {
   const A = t.source === 'original' ? img.ref : t.source === 'binned' ? img.binRef : img.defRef;
   const B = t.source === 'original' ? img.meas : t.source === 'binned' ? img.binMeas : img.defMeas;
@@ -234,8 +325,17 @@ function correlateRowsPlain(A: Float32Array, B: Float32Array, width: number, hei
   const dir = t.method === 'direct' ? direct(t.windowPx) : null;
   const { cols, out, active } = t;
   let pending = -1;
+  // with the SIMD kernels, each row of windows is copied into their memory as one strip per image
+  const K = dir?.simd ? simdKernels() : null;
   for (let r = r0; r < r1; r++) {
     const y0 = t.top + r * t.stepPx;
+    let strip = -1;
+    if (K) {
+      const n = t.windowPx * width;
+      strip = K.scratch(8 * n);
+      K.f32.set(A.subarray(y0 * width, y0 * width + n), strip / 4);
+      K.f32.set(B.subarray(y0 * width, y0 * width + n), strip / 4 + n);
+    }
     for (let c = 0; c < cols; c++) {
       const k = c + r * cols;
       if (!active[k]) {
@@ -243,7 +343,7 @@ function correlateRowsPlain(A: Float32Array, B: Float32Array, width: number, hei
         continue;
       }
       const x0 = t.left + c * t.stepPx;
-      if (dir && dir.run(A, B, width, height, x0, y0, t.minPixels, out, k)) continue;
+      if (dir && (strip >= 0 ? dir.runStrip(strip, strip + 4 * t.windowPx * width, width, x0, t.minPixels, out, k) : dir.run(A, B, width, height, x0, y0, t.minPixels, out, k))) continue;
       const slot = pending < 0 ? 0 : 1;
       const got = cor.load(slot, A, B, width, x0, y0);
       if (got < t.minPixels) {
