@@ -278,36 +278,43 @@ function deformRowsSimd(img: EngineImages, t: DeformTask, y0: number, y1: number
   };
   const [ra, rb] = band(-1);
   const [ma, mb] = band(1);
-  const srcRef = pyAt + gp * 4;
+  const listR = pyAt + gp * 4; // x of the pixels a kernel left unevaluated (i32, ≤ width each)
+  const listM = listR + width * 4;
+  const srcRef = listM + width * 4;
   const srcMeas = srcRef + (rb - ra) * width * 4;
   K.scratch(srcMeas + (mb - ma) * width * 4 - mmAt);
   const f32 = K.f32;
+  const i32 = new Int32Array(f32.buffer, listR, 2 * width);
   f32.set(ref.subarray(ra * width, rb * width), srcRef / 4);
   f32.set(meas.subarray(ma * width, mb * width), srcMeas / 4);
-  let bad = 0;
+  const sample = lanczos ? sampleLanczos4 : sampleKeys;
   for (let y = y0; y < y1; y++) {
     const i = (y - y0) * width * 4;
-    const badR = lanczos ? k.lanczos4_row(K.lanczosTable, srcRef, ra, width, height, y, hxAt + i, hyAt + i, -1, outRef + i) : k.keys_row(srcRef, ra, width, height, y, hxAt + i, hyAt + i, -1, outRef + i);
-    const badM = lanczos ? k.lanczos4_row(K.lanczosTable, srcMeas, ma, width, height, y, hxAt + i, hyAt + i, 1, outMeas + i) : k.keys_row(srcMeas, ma, width, height, y, hxAt + i, hyAt + i, 1, outMeas + i);
-    if (badR + badM === 0) continue;
-    bad++;
-    // kernels reaching beyond the image: the TypeScript samplers' border rules
-    const sample = lanczos ? sampleLanczos4 : sampleKeys;
-    for (let x = 0; x < width; x++) {
+    const badR = lanczos
+      ? k.lanczos4_row(K.lanczosTable, srcRef, ra, width, height, y, hxAt + i, hyAt + i, -1, outRef + i, listR)
+      : k.keys_row(srcRef, ra, width, height, y, hxAt + i, hyAt + i, -1, outRef + i, listR);
+    const badM = lanczos
+      ? k.lanczos4_row(K.lanczosTable, srcMeas, ma, width, height, y, hxAt + i, hyAt + i, 1, outMeas + i, listM)
+      : k.keys_row(srcMeas, ma, width, height, y, hxAt + i, hyAt + i, 1, outMeas + i, listM);
+    // kernels reaching beyond the image: the TypeScript samplers' border rules; a pixel missing in
+    // either image is dropped from both, so both windows keep the same pixel set (images are finite,
+    // so only these pixels can be missing)
+    for (let j = 0; j < badR + badM; j++) {
+      const x = j < badR ? i32[j]! : i32[width + j - badR]!;
       const q = i / 4 + x;
       const h = f32[hxAt / 4 + q]!;
       const v = f32[hyAt / 4 + q]!;
-      if (!(f32[outRef / 4 + q]! === f32[outRef / 4 + q]!)) f32[outRef / 4 + q] = sample(ref, width, height, x - h, y - v);
-      if (!(f32[outMeas / 4 + q]! === f32[outMeas / 4 + q]!)) f32[outMeas / 4 + q] = sample(meas, width, height, x + h, y + v);
+      const r = outRef / 4 + q;
+      const m = outMeas / 4 + q;
+      if (!(f32[r]! === f32[r]!)) f32[r] = sample(ref, width, height, x - h, y - v);
+      if (!(f32[m]! === f32[m]!)) f32[m] = sample(meas, width, height, x + h, y + v);
+      if (!(f32[r]! === f32[r]!) || !(f32[m]! === f32[m]!)) f32[r] = f32[m] = NaN;
     }
   }
   defRef.set(f32.subarray(outRef / 4, outRef / 4 + plane), y0 * width);
   defMeas.set(f32.subarray(outMeas / 4, outMeas / 4 + plane), y0 * width);
-  // a pixel missing in either image (or masked) is dropped from both (as in deformRows); without a
-  // mask only rows that reached beyond the image can hold one
-  if (bad > 0 || mask)
-    for (let q = y0 * width; q < y1 * width; q++)
-      if ((mask && !mask[q]) || !(defRef[q]! === defRef[q]!) || !(defMeas[q]! === defMeas[q]!)) defRef[q] = defMeas[q] = NaN;
+  if (mask)
+    for (let q = y0 * width; q < y1 * width; q++) if (!mask[q]) defRef[q] = defMeas[q] = NaN;
 }
 
 function correlateRows(img: EngineImages, t: CorrelateTask, r0: number, r1: number): void {

@@ -15,11 +15,12 @@
   ;; for x = 0 … width − 1, with T the table of 4097 × 8 normalised weights (f32) at byte offset $tab and
   ;; q the fractional position in 1/4096 px (rounded). $src holds image rows $srcY0 … (width f32 each);
   ;; the caller makes sure they cover every row the kernel reaches. Positions outside
-  ;; 3 ≤ px < width − 4, 3 ≤ py < height − 4 get NaN; the result is their count (the caller evaluates
-  ;; them with the border rules of sampleLanczos4). hx, hy: f32 per pixel.
+  ;; 3 ≤ px < width − 4, 3 ≤ py < height − 4 get NaN; the result is their count, and their x are
+  ;; listed (i32) at $list (the caller evaluates them with the border rules of sampleLanczos4).
+  ;; hx, hy: f32 per pixel.
   (func (export "lanczos4_row")
     (param $tab i32) (param $src i32) (param $srcY0 i32) (param $width i32) (param $height i32)
-    (param $y i32) (param $hx i32) (param $hy i32) (param $s f64) (param $out i32) (result i32)
+    (param $y i32) (param $hx i32) (param $hy i32) (param $s f64) (param $out i32) (param $list i32) (result i32)
     (local $x i32) (local $px f64) (local $py f64) (local $ix i32) (local $iy i32)
     (local $tx i32) (local $ty i32) (local $p i32) (local $stride i32) (local $bad i32)
     (local $lo v128) (local $hi v128) (local $w v128) (local $v v128)
@@ -87,6 +88,7 @@
             (f32.store (local.get $out) (f32x4.extract_lane 0 (local.get $v))))
           (else
             (f32.store (local.get $out) (f32.const nan))
+            (i32.store (i32.add (local.get $list) (i32.shl (local.get $bad) (i32.const 2))) (local.get $x))
             (local.set $bad (i32.add (local.get $bad) (i32.const 1)))))
         (local.set $hx (i32.add (local.get $hx) (i32.const 4)))
         (local.set $hy (i32.add (local.get $hy) (i32.const 4)))
@@ -98,13 +100,13 @@
   ;; Keys cubic convolution (a = −½) deformation of one image row (see keysCubic.ts, keysRow); same
   ;; arguments as lanczos4_row without the table; NaN (counted) outside 1 ≤ px < width − 2,
   ;; 1 ≤ py < height − 2. Weights of t = px − ⌊px⌋: ½·(c₃t³ + c₂t² + c₁t + c₀) with
-  ;; c₃ = (−1, 3, −3, 1), c₂ = (2, −5, 4, −1), c₁ = (−1, 0, 1, 0), c₀ = (0, 2, 0, 0).
+  ;; c₃ = (−1, 3, −3, 1), c₂ = (2, −5, 4, −1), c₁ = (−1, 0, 1, 0), c₀ = (0, 2, 0, 0) (the ½ folded in).
   (func (export "keys_row")
     (param $src i32) (param $srcY0 i32) (param $width i32) (param $height i32)
-    (param $y i32) (param $hx i32) (param $hy i32) (param $s f64) (param $out i32) (result i32)
+    (param $y i32) (param $hx i32) (param $hy i32) (param $s f64) (param $out i32) (param $list i32) (result i32)
     (local $x i32) (local $px f64) (local $py f64) (local $ix i32) (local $iy i32)
     (local $p i32) (local $stride i32) (local $bad i32)
-    (local $t v128) (local $wx v128) (local $wy v128) (local $acc v128) (local $v v128)
+    (local $t v128) (local $t2 v128) (local $wx v128) (local $wy v128) (local $acc v128) (local $v v128)
     (local $xmax f64) (local $ymax f64) (local $yf f64)
     (local.set $stride (i32.shl (local.get $width) (i32.const 2)))
     (local.set $xmax (f64.convert_i32_s (i32.sub (local.get $width) (i32.const 2))))
@@ -122,9 +124,23 @@
             (local.set $ix (i32.trunc_f64_s (local.get $px)))
             (local.set $iy (i32.trunc_f64_s (local.get $py)))
             (local.set $t (f32x4.splat (f32.demote_f64 (f64.sub (local.get $px) (f64.convert_i32_s (local.get $ix))))))
-            (local.set $wx (call $keysWeights (local.get $t)))
+            (local.set $t2 (f32x4.mul (local.get $t) (local.get $t)))
+            (local.set $wx (f32x4.add
+              (f32x4.add
+                (f32x4.mul (v128.const f32x4 -0.5 1.5 -1.5 0.5) (f32x4.mul (local.get $t2) (local.get $t)))
+                (f32x4.mul (v128.const f32x4 1 -2.5 2 -0.5) (local.get $t2)))
+              (f32x4.add
+                (f32x4.mul (v128.const f32x4 -0.5 0 0.5 0) (local.get $t))
+                (v128.const f32x4 0 1 0 0))))
             (local.set $t (f32x4.splat (f32.demote_f64 (f64.sub (local.get $py) (f64.convert_i32_s (local.get $iy))))))
-            (local.set $wy (call $keysWeights (local.get $t)))
+            (local.set $t2 (f32x4.mul (local.get $t) (local.get $t)))
+            (local.set $wy (f32x4.add
+              (f32x4.add
+                (f32x4.mul (v128.const f32x4 -0.5 1.5 -1.5 0.5) (f32x4.mul (local.get $t2) (local.get $t)))
+                (f32x4.mul (v128.const f32x4 1 -2.5 2 -0.5) (local.get $t2)))
+              (f32x4.add
+                (f32x4.mul (v128.const f32x4 -0.5 0 0.5 0) (local.get $t))
+                (v128.const f32x4 0 1 0 0))))
             (local.set $p (i32.add (local.get $src) (i32.shl (i32.add
               (i32.mul (i32.sub (local.get $iy) (i32.add (local.get $srcY0) (i32.const 1))) (local.get $width))
               (i32.sub (local.get $ix) (i32.const 1))) (i32.const 2))))
@@ -143,6 +159,7 @@
             (f32.store (local.get $out) (f32x4.extract_lane 0 (local.get $v))))
           (else
             (f32.store (local.get $out) (f32.const nan))
+            (i32.store (i32.add (local.get $list) (i32.shl (local.get $bad) (i32.const 2))) (local.get $x))
             (local.set $bad (i32.add (local.get $bad) (i32.const 1)))))
         (local.set $hx (i32.add (local.get $hx) (i32.const 4)))
         (local.set $hy (i32.add (local.get $hy) (i32.const 4)))
@@ -150,19 +167,6 @@
         (local.set $x (i32.add (local.get $x) (i32.const 1)))
         (br_if $next (i32.lt_s (local.get $x) (local.get $width)))))
     (local.get $bad))
-
-  ;; the four Keys weights of the fractional position t (all lanes equal)
-  (func $keysWeights (param $t v128) (result v128)
-    (local $t2 v128)
-    (local.set $t2 (f32x4.mul (local.get $t) (local.get $t)))
-    (f32x4.mul (v128.const f32x4 0.5 0.5 0.5 0.5)
-      (f32x4.add
-        (f32x4.add
-          (f32x4.mul (v128.const f32x4 -1 3 -3 1) (f32x4.mul (local.get $t2) (local.get $t)))
-          (f32x4.mul (v128.const f32x4 2 -5 4 -1) (local.get $t2)))
-        (f32x4.add
-          (f32x4.mul (v128.const f32x4 -1 0 1 0) (local.get $t))
-          (v128.const f32x4 0 2 0 0)))))
 
   ;; Lag-limited cross-correlation (see directCorrelator.ts): R(u, v) = Σ a(c, r)·b(c + u, r + v) for
   ;; u, v = 0 … 4, with a an n × n window (f32, rows of n) and b the (n + 4) × (n + 4) window (f32) with

@@ -22,8 +22,8 @@ const wasm = (globalThis as unknown as { WebAssembly: WasmApi }).WebAssembly;
 
 interface KernelExports {
   memory: { buffer: ArrayBuffer; grow(pages: number): number };
-  lanczos4_row(tab: number, src: number, srcY0: number, width: number, height: number, y: number, hx: number, hy: number, s: number, out: number): number;
-  keys_row(src: number, srcY0: number, width: number, height: number, y: number, hx: number, hy: number, s: number, out: number): number;
+  lanczos4_row(tab: number, src: number, srcY0: number, width: number, height: number, y: number, hx: number, hy: number, s: number, out: number, list: number): number;
+  keys_row(src: number, srcY0: number, width: number, height: number, y: number, hx: number, hy: number, s: number, out: number, list: number): number;
   half_pred(x0: number, x1: number, x2: number, x3: number, dy: number, w0: number, w1: number, w2: number, w3: number, width: number, hx: number, hy: number, mm: number): void;
   direct_window(A: number, B: number, stride: number, n: number, a: number, b: number, out: number): void;
 }
