@@ -86,36 +86,42 @@ describe('WebAssembly SIMD kernels', () => {
       expect(worst).toBeLessThan(2e-3); // single precision of 0–255 values (≈ 1e-5 relative)
     });
 
-  it('lag-limited correlation: SIMD strip and TypeScript window give the same vectors', () => {
-    const n = 32;
-    const width = 256;
-    const { ref, meas } = synthPair({ width, height: 64, diameterPx: 2.8, seed: 9, displacement: { kind: 'uniform', dx: 0.31, dy: -0.27 } });
-    // a few missing pixels in one window exercise the NaN handling
-    for (let k = 0; k < 40; k++) ref.data[3 + 5 * width + 130 + k * (width + 1)] = NaN;
-    const K = simdKernels()!;
-    const cor = new DirectWindowCorrelator(n);
-    const y0 = 16;
-    const out = () => ({ dx: new Float32Array(8), dy: new Float32Array(8), correlation: new Float32Array(8), peakRatio: new Float32Array(8) });
-    const js = out();
-    const simd = out();
-    const strip = K.scratch(8 * n * width);
-    K.f32.set(ref.data.subarray(y0 * width, (y0 + n) * width), strip / 4);
-    K.f32.set(meas.data.subarray(y0 * width, (y0 + n) * width), strip / 4 + n * width);
-    const done: boolean[] = [];
-    for (let c = 0; c < 7; c++) {
-      const x0 = 8 + 32 * c;
-      const a = cor.run(ref.data, meas.data, width, 64, x0, y0, 600, js, c);
-      const b = cor.runStrip(strip, strip + 4 * n * width, width, x0, 600, simd, c);
-      expect(b).toBe(a);
-      done.push(a);
-    }
-    expect(done.every(Boolean)).toBe(true);
-    for (let c = 0; c < 7; c++) {
-      expect(Math.abs(simd.dx[c]! - js.dx[c]!)).toBeLessThan(1e-4);
-      expect(Math.abs(simd.dy[c]! - js.dy[c]!)).toBeLessThan(1e-4);
-      expect(Math.abs(simd.correlation[c]! - js.correlation[c]!)).toBeLessThan(1e-5);
-      expect(Math.abs(simd.peakRatio[c]! / js.peakRatio[c]! - 1)).toBeLessThan(1e-4);
-      expect(Math.abs(js.dx[c]! - 0.31)).toBeLessThan(0.05); // and both measure the shift
-    }
-  });
+  // (0.31, −0.27): peak at lag 0; (0.93, −1.12): beyond ½ px, the lags are computed again around (1, −1)
+  for (const [dx, dy] of [
+    [0.31, -0.27],
+    [0.93, -1.12],
+  ] as const)
+    it(`lag-limited correlation, shift (${dx}, ${dy}) px: SIMD strip and TypeScript window give the same vectors`, () => {
+      const n = 32;
+      const width = 256;
+      const { ref, meas } = synthPair({ width, height: 64, diameterPx: 2.8, seed: 9, displacement: { kind: 'uniform', dx, dy } });
+      // a few missing pixels in one window exercise the NaN handling
+      for (let k = 0; k < 40; k++) ref.data[3 + 5 * width + 130 + k * (width + 1)] = NaN;
+      const K = simdKernels()!;
+      const cor = new DirectWindowCorrelator(n);
+      const y0 = 16;
+      const out = () => ({ dx: new Float32Array(8), dy: new Float32Array(8), correlation: new Float32Array(8), peakRatio: new Float32Array(8) });
+      const js = out();
+      const simd = out();
+      const strip = K.scratch(8 * n * width);
+      K.f32.set(ref.data.subarray(y0 * width, (y0 + n) * width), strip / 4);
+      K.f32.set(meas.data.subarray(y0 * width, (y0 + n) * width), strip / 4 + n * width);
+      const done: boolean[] = [];
+      for (let c = 0; c < 7; c++) {
+        const x0 = 8 + 32 * c;
+        const a = cor.run(ref.data, meas.data, width, 64, x0, y0, 600, js, c);
+        const b = cor.runStrip(strip, strip + 4 * n * width, width, x0, 600, simd, c);
+        expect(b).toBe(a);
+        done.push(a);
+      }
+      expect(done.every(Boolean)).toBe(true);
+      for (let c = 0; c < 7; c++) {
+        expect(Math.abs(simd.dx[c]! - js.dx[c]!)).toBeLessThan(1e-4);
+        expect(Math.abs(simd.dy[c]! - js.dy[c]!)).toBeLessThan(1e-4);
+        expect(Math.abs(simd.correlation[c]! - js.correlation[c]!)).toBeLessThan(1e-5);
+        expect(Math.abs(simd.peakRatio[c]! / js.peakRatio[c]! - 1)).toBeLessThan(1e-4);
+        expect(Math.abs(js.dx[c]! - dx)).toBeLessThan(0.08); // and both measure the shift
+        expect(Math.abs(js.dy[c]! - dy)).toBeLessThan(0.08);
+      }
+    });
 });

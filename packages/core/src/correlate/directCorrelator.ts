@@ -10,8 +10,11 @@
  * so the peak is a correlation coefficient.
  * The 3-point Gaussian fit refines the peak; the peak ratio is primary / highest value at lag
  * distance 2 (the ring around the 3×3 neighbourhood), a local measure of peak sharpness.
- * When the maximum is not at lag 0 (residual beyond ½ px) the caller falls back to FFT correlation
- * of the whole window, so a far-away competing peak is still seen there.
+ * When the maximum is not at lag 0 (residual beyond ½ px) but within ±1 px of it, the 25 lags are
+ * computed again around the maximum (residuals up to about 1½ px, common after a coarse predictor);
+ * when the maximum is still not at the centre of the lags computed, or lies on their border at once,
+ * the caller falls back to FFT correlation of the whole window, so a far-away competing peak is
+ * still seen there.
  *
  * Cost per window: 25·n² multiply–adds, against about 1.5 complex n×n FFTs for the FFT route.
  */
@@ -26,6 +29,9 @@ const SUMS = new Float64Array(4);
 
 const R = 2; // the unrolled lag loop below assumes R = 2
 const L = 2 * R + 1;
+/** Zero border around b: lags up to R + 1 (the lags around a maximum at ±1 px). */
+const BORDER = R + 1;
+const CENTRE = R * L + R;
 
 function g(u: number, n: number): number {
   return 1 / (1 - Math.abs(u) / n);
@@ -33,7 +39,7 @@ function g(u: number, n: number): number {
 
 export class DirectWindowCorrelator {
   readonly n: number;
-  /** Mean-removed windows: a is n × n, b sits inside a zero border of R pixels ((n + 2R)²). */
+  /** Mean-removed windows: a is n × n, b sits inside a zero border of BORDER pixels ((n + 2·BORDER)²). */
   private readonly a: Float64Array;
   private readonly b: Float64Array;
   /** The 5 × 5 correlation sums, lag row v at 5·v. */
@@ -48,7 +54,7 @@ export class DirectWindowCorrelator {
   constructor(n: number) {
     if (n % 8 !== 0) throw new Error(`DirectWindowCorrelator: window ${n} px is not a multiple of 8`);
     this.n = n;
-    const m = n + 2 * R;
+    const m = n + 2 * BORDER;
     this.a = new Float64Array(n * n);
     this.b = new Float64Array(m * m);
     this.K = simdKernels();
@@ -82,7 +88,17 @@ export class DirectWindowCorrelator {
     }
     const rr = this.r;
     for (let i = 0; i < L * L; i++) rr[i] = res[6 + i]!;
-    return this.peak(res[4]!, res[5]!, out, idx);
+    const shift = this.recentre();
+    if (shift < 0) return false;
+    if (shift !== CENTRE) {
+      const du = (shift % L) - R;
+      const dv = Math.floor(shift / L) - R;
+      K.k.corr_shifted(this.at[0], this.at[1], this.n, du, dv, this.at[2] + 48);
+      for (let i = 0; i < L * L; i++) rr[i] = res[6 + i]!;
+      if (this.argmax() !== CENTRE) return false;
+      return this.peak(res[4]!, res[5]!, out, idx, du, dv);
+    }
+    return this.peak(res[4]!, res[5]!, out, idx, 0, 0);
   }
 
   /**
@@ -94,7 +110,7 @@ export class DirectWindowCorrelator {
     const n = this.n;
     const a = this.a;
     const b = this.b;
-    const m = n + 2 * R;
+    const m = n + 2 * BORDER;
     // means over the window's finite pixels
     windowSums(A, B, width, x0, y0, n, SUMS);
     const sa = SUMS[0]!;
@@ -108,7 +124,7 @@ export class DirectWindowCorrelator {
     }
     const ma = sa / na;
     const mb = sb / nb;
-    // mean-removed windows (NaN → 0); b sits inside a zero border of R pixels, written once at
+    // mean-removed windows (NaN → 0); b sits inside a zero border of BORDER pixels, written once at
     // construction and never touched since
     let ea = 0;
     let eb = 0;
@@ -116,7 +132,7 @@ export class DirectWindowCorrelator {
     let eb1 = 0;
     for (let r = 0, j = 0; r < n; r++) {
       let k = x0 + (y0 + r) * width;
-      let jb = (r + R) * m + R;
+      let jb = (r + BORDER) * m + BORDER;
       if (complete)
         for (let c = 0; c < n; c += 2, k += 2, j += 2, jb += 2) {
           const u = A[k]! - ma;
@@ -150,27 +166,55 @@ export class DirectWindowCorrelator {
       out.dx[idx] = out.dy[idx] = out.correlation[idx] = out.peakRatio[idx] = NaN;
       return true;
     }
-    lagSums(a, b, n, this.r);
-    return this.peak(ea, eb, out, idx);
+    lagSums(a, b, n, this.r, 0, 0);
+    const shift = this.recentre();
+    if (shift < 0) return false;
+    if (shift !== CENTRE) {
+      const du = (shift % L) - R;
+      const dv = Math.floor(shift / L) - R;
+      lagSums(a, b, n, this.r, du, dv);
+      if (this.argmax() !== CENTRE) return false;
+      return this.peak(ea, eb, out, idx, du, dv);
+    }
+    return this.peak(ea, eb, out, idx, 0, 0);
   }
 
-  /** Peak, sub-pixel fit and peak ratio from the lag sums in this.r (energies ea, eb). */
-  private peak(ea: number, eb: number, out: CorrelationOutputs, idx: number): boolean {
-    const n = this.n;
+  /** Index of the largest of the 25 lag sums in this.r. */
+  private argmax(): number {
     const rr = this.r;
     let best = -Infinity;
     let bi = 0;
     for (let i = 0; i < L * L; i++) if (rr[i]! > best) (best = rr[i]!), (bi = i);
-    const pu = bi % L;
-    const pv = (bi - pu) / L;
-    if (pu !== R || pv !== R) return false; // residual beyond ½ px: the whole FFT plane decides
+    return bi;
+  }
+
+  /**
+   * Where the lags around lag 0 put the maximum: CENTRE (residual within ½ px), another index with
+   * |u|, |v| ≤ 1 (compute the lags again around it), or −1 (on the border: the FFT plane decides).
+   */
+  private recentre(): number {
+    const bi = this.argmax();
+    const pu = (bi % L) - R;
+    const pv = Math.floor(bi / L) - R;
+    return Math.abs(pu) <= 1 && Math.abs(pv) <= 1 ? bi : -1;
+  }
+
+  /**
+   * Sub-pixel fit and peak ratio of the maximum at the centre of this.r, whose lags are centred on
+   * (du, dv) (energies ea, eb).
+   */
+  private peak(ea: number, eb: number, out: CorrelationOutputs, idx: number, du: number, dv: number): boolean {
+    const n = this.n;
+    const rr = this.r;
+    const bi = CENTRE;
+    const pu = R;
+    const pv = R;
+    const best = rr[bi]!;
     // loss-of-pairs weighting (1 − |u|/n) of the zero-padded windows undone before the fit
-    const ux = pu - R;
-    const uy = pv - R;
-    const sx = gaussianPeak3(rr[bi - 1]! * g(ux - 1, n), best * g(ux, n), rr[bi + 1]! * g(ux + 1, n));
-    const sy = gaussianPeak3(rr[bi - L]! * g(uy - 1, n), best * g(uy, n), rr[bi + L]! * g(uy + 1, n));
-    out.dx[idx] = pu - R + sx;
-    out.dy[idx] = pv - R + sy;
+    const sx = gaussianPeak3(rr[bi - 1]! * g(du - 1, n), best * g(du, n), rr[bi + 1]! * g(du + 1, n));
+    const sy = gaussianPeak3(rr[bi - L]! * g(dv - 1, n), best * g(dv, n), rr[bi + L]! * g(dv + 1, n));
+    out.dx[idx] = du + sx;
+    out.dy[idx] = dv + sy;
     out.correlation[idx] = best / Math.sqrt(ea * eb);
     let second = -Infinity;
     for (let i = 0; i < L * L; i++) {
@@ -188,9 +232,12 @@ export class DirectWindowCorrelator {
   }
 }
 
-/** R(u, v) for the 5 × 5 lags (TypeScript kernel; corr25 in kernels.wat is the SIMD one). */
-function lagSums(a: Float64Array, b: Float64Array, n: number, rr: Float64Array): void {
-  const m = n + 2 * R;
+/**
+ * R(du + u, dv + v) for the 5 × 5 lags u, v = −2 … 2 around (du, dv), |du|, |dv| ≤ 1 (TypeScript kernel;
+ * corr25 in kernels.wat is the SIMD one).
+ */
+function lagSums(a: Float64Array, b: Float64Array, n: number, rr: Float64Array, du: number, dv: number): void {
+  const m = n + 2 * BORDER;
   // R(u, v) for the 5 lags u of each lag row v at once, 8 columns of a per step (n is a multiple of 8)
   for (let v = 0; v < L; v++) {
     let s0 = 0;
@@ -200,7 +247,7 @@ function lagSums(a: Float64Array, b: Float64Array, n: number, rr: Float64Array):
     let s4 = 0;
     for (let r = 0; r < n; r++) {
       const ao = r * n;
-      const bo = (r + v) * m;
+      const bo = (r + v + BORDER - R + dv) * m + BORDER - R + du;
       for (let c = 0; c < n; c += 8) {
         const q = ao + c;
         const k = bo + c;

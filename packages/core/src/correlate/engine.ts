@@ -56,7 +56,7 @@ export interface CorrelateTask {
   /** 'binned': the 2×2-binned images (grid and window in binned pixels). */
   source: 'original' | 'deformed' | 'binned';
   /**
-   * 'fft': whole (circular) correlation plane of equal windows; 'direct': lags ≤ 2 px with FFT fallback
+   * 'fft': whole (circular) correlation plane of equal windows; 'direct': lags ≤ 2 px (recentred once) with FFT fallback
    * (deformed passes); 'offset': FFT, then again with the measurement window moved by the whole-pixel
    * displacement (discrete window offset; for a pass on undeformed images at the final window size).
    */

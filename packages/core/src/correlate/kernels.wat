@@ -169,13 +169,13 @@
     (local.get $bad))
 
   ;; Lag-limited cross-correlation (see directCorrelator.ts): R(u, v) = Σ a(c, r)·b(c + u, r + v) for
-  ;; u, v = 0 … 4, with a an n × n window (f32, rows of n) and b the (n + 4) × (n + 4) window (f32) with
-  ;; a zero border of 2 px; n a multiple of 4. Writes the 25 sums as f64 to $out, row v at 5·v.
-  (func $corr25 (param $a i32) (param $b i32) (param $n i32) (param $out i32)
+  ;; u, v = 0 … 4, with a an n × n window (f32, rows of n) and b (f32) rows of $m4 bytes, so that
+  ;; lag (u, v) = (0, 0) here is lag (−2, −2) of the windows when $b points 2 rows and 2 columns before
+  ;; the measurement window inside its zero border; n a multiple of 4. Writes the 25 sums as f64 to
+  ;; $out, row v at 5·v.
+  (func $corr25 (param $a i32) (param $b i32) (param $n i32) (param $m4 i32) (param $out i32)
     (local $vv i32) (local $r i32) (local $c i32) (local $ap i32) (local $bp i32) (local $o i32)
     (local $s0 v128) (local $s1 v128) (local $s2 v128) (local $s3 v128) (local $s4 v128) (local $v v128)
-    (local $m4 i32)
-    (local.set $m4 (i32.shl (i32.add (local.get $n) (i32.const 4)) (i32.const 2)))
     (local.set $o (local.get $out))
     (loop $lagRow
       (local.set $s0 (v128.const i32x4 0 0 0 0))
@@ -289,7 +289,7 @@
 
   ;; One window pair of the lag-limited correlation, start to end (see directCorrelator.ts): the
   ;; n × n windows at $A and $B (row stride $stride f32) → sums and counts of their finite pixels,
-  ;; mean-removed copies (NaN → 0) in $a (n × n) and inside the zero border of $b ((n + 4)²), their
+  ;; mean-removed copies (NaN → 0) in $a (n × n) and inside the 3 px zero border of $b ((n + 6)²), their
   ;; energies Σa², Σb², and the 25 lag sums. Writes f64 to $out: sumA, sumB, countA, countB, energyA,
   ;; energyB, then R(u, v) as corr25 does. n a multiple of 4.
   (func (export "direct_window")
@@ -301,7 +301,7 @@
     (local $v v128) (local $c v128) (local $fa f32) (local $fb f32) (local $na i32) (local $nb i32)
     (local.set $row (i32.shl (local.get $stride) (i32.const 2)))
     (local.set $n4 (i32.shl (local.get $n) (i32.const 2)))
-    (local.set $m4 (i32.add (local.get $n4) (i32.const 16)))
+    (local.set $m4 (i32.add (local.get $n4) (i32.const 24)))
     ;; sums and counts (a lane of f32x4.eq(v, v) is all ones where v is not NaN)
     (local.set $pa (local.get $A))
     (local.set $pb (local.get $B))
@@ -350,7 +350,7 @@
     (local.set $pa (local.get $A))
     (local.set $pb (local.get $B))
     (local.set $qa (local.get $a))
-    (local.set $qb (i32.add (local.get $b) (i32.add (i32.shl (local.get $m4) (i32.const 1)) (i32.const 8))))
+    (local.set $qb (i32.add (local.get $b) (i32.add (i32.mul (local.get $m4) (i32.const 3)) (i32.const 12))))
     (local.set $r (i32.const 0))
     (loop $prepRows
       (local.set $i (i32.const 0))
@@ -379,5 +379,16 @@
     (local.set $v (f32x4.add (local.get $v) (i8x16.shuffle 8 9 10 11 12 13 14 15 0 1 2 3 4 5 6 7 (local.get $v) (local.get $v))))
     (local.set $v (f32x4.add (local.get $v) (i8x16.shuffle 4 5 6 7 0 1 2 3 8 9 10 11 12 13 14 15 (local.get $v) (local.get $v))))
     (f64.store offset=40 (local.get $out) (f64.promote_f32 (f32x4.extract_lane 0 (local.get $v))))
-    (call $corr25 (local.get $a) (local.get $b) (local.get $n) (i32.add (local.get $out) (i32.const 48))))
+    (call $corr25 (local.get $a) (i32.add (local.get $b) (i32.add (local.get $m4) (i32.const 4))) (local.get $n) (local.get $m4)
+      (i32.add (local.get $out) (i32.const 48))))
+
+  ;; The 25 lag sums again, centred on lag ($du, $dv) (each −1, 0 or 1) instead of 0, from the windows
+  ;; direct_window left in $a and $b: R(du + u, dv + v), u, v = −2 … 2, as f64 to $out.
+  (func (export "corr_shifted") (param $a i32) (param $b i32) (param $n i32) (param $du i32) (param $dv i32) (param $out i32)
+    (local $m4 i32)
+    (local.set $m4 (i32.shl (i32.add (local.get $n) (i32.const 6)) (i32.const 2)))
+    (call $corr25 (local.get $a)
+      (i32.add (local.get $b) (i32.add (i32.mul (local.get $m4) (i32.add (local.get $dv) (i32.const 1)))
+                                       (i32.shl (i32.add (local.get $du) (i32.const 1)) (i32.const 2))))
+      (local.get $n) (local.get $m4) (local.get $out)))
 )

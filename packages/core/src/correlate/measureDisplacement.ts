@@ -77,7 +77,8 @@ export interface MeasureDisplacementOptions {
   /**
    * Correlation of the deformation passes (every pass after the first): `'direct'` (default) computes
    * the correlation only at lags |u|, |v| ≤ 2 px — after deformation the residual is a small fraction
-   * of a pixel — and falls back to the FFT plane for windows whose residual exceeds ½ px; its peak
+   * of a pixel; where the maximum lies 1 px off lag 0 (residual ½–1½ px) the 5 × 5 lags are computed
+   * again around it, and only windows whose maximum is still off-centre fall back to the FFT plane; its peak
    * ratio compares the peak with the ring of lags at distance 2 (the median test's keep rule re-judges
    * flagged vectors on the whole FFT plane). `'fft'` uses the whole FFT plane (peak ratio against the
    * highest other local maximum anywhere). The first pass always uses the FFT plane.

@@ -10,8 +10,8 @@
  *     previous pass's field, median-tested and replaced, is interpolated to every pixel (Keys cubic
  *     convolution over the grid), the reference is resampled at x − p/2 and the measurement at
  *     x + p/2 (Lanczos-4 in the last pass, Keys cubic in earlier ones), and the correlation (lags
- *     ≤ 2 px directly, the FFT plane where the residual exceeds ½ px) measures the residual, which is
- *     added to the predictor at the window centre.
+ *     ≤ 2 px directly, again around the maximum when it lies 1 px off lag 0, the FFT plane where it
+ *     is still off-centre) measures the residual, which is added to the predictor at the window centre.
  * With passes = 2 both passes use W (the second deformed); passes = 1 is a single pass on the recorded
  * images. A pass on the recorded images at the final window size (passes 1–2) correlates each window
  * pair twice: once as is, then with the measurement window moved by the whole-pixel result (discrete
@@ -85,7 +85,7 @@ export function describeSchedule(o: ScheduleOptions = {}): string {
     const binned = i === 0 && !p.deform && plan.length > 1 && p.windowPx > (o.windowPx ?? 32) && !o.hasMask && p.stepPx % 2 === 0;
     const corr =
       (o.refine ?? 'direct') === 'direct'
-        ? 'the residual is measured by correlation over lags ≤ 2 px (the whole FFT plane where it exceeds ½ px)'
+        ? 'the residual is measured by correlation over lags ≤ 2 px (again around the maximum when it lies 1 px off lag 0; the whole FFT plane where it is still off-centre)'
         : 'the residual is measured by FFT cross-correlation';
     return p.deform
       ? `${head}, images deformed symmetrically by the pass-${i} field (reference at x − d/2, measurement at x + d/2; ${

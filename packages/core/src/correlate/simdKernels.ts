@@ -26,6 +26,7 @@ interface KernelExports {
   keys_row(src: number, srcY0: number, width: number, height: number, y: number, hx: number, hy: number, s: number, out: number, list: number): number;
   half_pred(x0: number, x1: number, x2: number, x3: number, dy: number, w0: number, w1: number, w2: number, w3: number, width: number, hx: number, hy: number, mm: number): void;
   direct_window(A: number, B: number, stride: number, n: number, a: number, b: number, out: number): void;
+  corr_shifted(a: number, b: number, n: number, du: number, dv: number, out: number): void;
 }
 
 const PAGE = 65536;
