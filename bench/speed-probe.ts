@@ -1,11 +1,15 @@
 /**
- * Quick development probe (not a bench case): 2048², 32 px windows, 50 % overlap, default passes,
- * 2 threads; prints median wall time, vectors/s and per-stage ms. `npx tsx bench/speed-probe.ts [size] [threads]`.
+ * Quick probe (not a bench case; the displacement case runs it in fresh processes to compare the
+ * kernels): size² synthetic pair (default 2048), 32 px windows, 50 % overlap, default passes, 2 threads
+ * unless given; median of 5 runs after a warm-up; prints wall time, vectors/s and per-stage ms, or one
+ * JSON line with `--json`. `npx tsx bench/speed-probe.ts [size] [threads] [--json]`.
  */
 import { closeWorkers, measureDisplacement, synthPair } from '@rhofield/core';
 
-const size = Number(process.argv[2] ?? 2048);
-const threads = Number(process.argv[3] ?? 2);
+const args = process.argv.slice(2).filter((a) => a !== '--json');
+const json = process.argv.includes('--json');
+const size = Number(args[0] ?? 2048);
+const threads = Number(args[1] ?? 2);
 const { ref, meas } = synthPair({
   width: size, height: size, diameterPx: 2.8, dotsPerWindow: 10, seed: 3, bitDepth: 8, noiseSigma: 1,
   displacement: { kind: 'sine', amplitudePx: 3, wavelengthPx: 256, along: 'x', component: 'dy' },
@@ -21,6 +25,11 @@ for (let i = 0; i < 5; i++) {
 times.sort((a, b) => a - b);
 const ms = times[2]!;
 const n = last!.grid.cols * last!.grid.rows;
-console.log(`median ${ms.toFixed(0)} ms  ${Math.round((n / ms) * 1000)} vectors/s  runs ${times.map((t) => t.toFixed(0)).join(' ')}`);
-console.log(JSON.stringify({ setup: last!.timingsMs.setup, prefilter: last!.timingsMs.prefilter, passes: last!.passes.map((p) => p.ms) }));
+const r1 = (v: number): number => Math.round(v * 10) / 10;
+const stages = { setup: r1(last!.timingsMs.setup), passes: last!.passes.map((p) => ({ deform: r1(p.ms.deform), correlate: r1(p.ms.correlate), validate: r1(p.ms.validate) })) };
+if (json) console.log(JSON.stringify({ size, threads, medianMs: Math.round(ms), vectorsPerSecond: Math.round((n / ms) * 1000), runsMs: times.map(Math.round), stagesMs: stages }));
+else {
+  console.log(`median ${ms.toFixed(0)} ms  ${Math.round((n / ms) * 1000)} vectors/s  runs ${times.map((t) => t.toFixed(0)).join(' ')}`);
+  console.log(JSON.stringify(stages));
+}
 await closeWorkers();

@@ -18,6 +18,8 @@
  * excluded), share of time per stage and peak RSS. The machine is shared with other people's work,
  * so expect ±30 % on timings.
  */
+import { spawnSync } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
 import FFT from 'fft.js';
 import { closeWorkers, describeSchedule, measureDisplacement, synthPair, type DisplacementResult, type MeasureDisplacementOptions } from '@rhofield/core';
 
@@ -289,6 +291,26 @@ async function throughput(): Promise<Record<string, unknown>[]> {
   return rows;
 }
 
+/**
+ * The same 2048² default run with the WebAssembly SIMD kernels and with the TypeScript kernels
+ * (`RHOFIELD_KERNELS=js`), each in a fresh process (bench/speed-probe.ts), back to back, so the two
+ * numbers see the same machine load.
+ */
+function kernelComparison(): Record<string, unknown> {
+  const probe = fileURLToPath(new URL('../speed-probe.ts', import.meta.url));
+  const once = (kernels: 'wasm' | 'js'): Record<string, unknown> => {
+    const r = spawnSync(process.execPath, ['--import', 'tsx', probe, '2048', '2', '--json'], { env: { ...process.env, RHOFIELD_KERNELS: kernels }, encoding: 'utf8' });
+    const line = r.stdout.trim().split('\n').pop() ?? '';
+    return JSON.parse(line) as Record<string, unknown>;
+  };
+  const simd = once('wasm');
+  const ts = once('js');
+  process.stderr.write(
+    `kernels, 2048² default passes, 2 threads, fresh processes: WebAssembly SIMD ${simd['vectorsPerSecond']} vectors/s, TypeScript ${ts['vectorsPerSecond']} vectors/s\n`,
+  );
+  return { simd, typescript: ts };
+}
+
 export async function run(): Promise<Record<string, unknown>> {
   const only = process.env.RHOFIELD_BENCH_PART;
   const out: Record<string, unknown> = { note: 'timings on a shared 2-core machine; expect ±30 %' };
@@ -309,11 +331,12 @@ export async function run(): Promise<Record<string, unknown>> {
     const main = rows.find((r) => r['size'] === '2048x2048' && r['threads'] === 2 && r['passes'] === 3);
     if (main) {
       const v = main['vectorsPerSecond'] as number;
-      out.target = { vectorsPerSecond: v, target: 16000, stretch: 22000, met: v >= 16000, relativeToFftJsOneCore: +(v / baseline).toFixed(3) };
+      out.target = { vectorsPerSecond: v, target: 16000, stretch: 22000, met: v >= 16000, stretchMet: v >= 22000, relativeToFftJsOneCore: +(v / baseline).toFixed(3) };
       process.stderr.write(
-        `2048², 2 threads, default 3 passes: ${v} final vectors/s = ${(v / baseline).toFixed(2)} × the one-core fft.js reference (target 16,000${v >= 16000 ? ': met' : ': NOT met'})\n`,
+        `2048², 2 threads, default 3 passes: ${v} final vectors/s = ${(v / baseline).toFixed(2)} × the one-core fft.js reference (target 16,000${v >= 16000 ? ': met' : ': NOT met'}; stretch 22,000${v >= 22000 ? ': met' : ': not met'})\n`,
       );
     }
+    out.kernels = kernelComparison();
   }
   await closeWorkers();
   return out;

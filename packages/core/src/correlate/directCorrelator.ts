@@ -86,19 +86,8 @@ export class DirectWindowCorrelator {
       out.dx[idx] = out.dy[idx] = out.correlation[idx] = out.peakRatio[idx] = NaN;
       return true;
     }
-    const rr = this.r;
-    for (let i = 0; i < L * L; i++) rr[i] = res[6 + i]!;
-    const shift = this.recentre();
-    if (shift < 0) return false;
-    if (shift !== CENTRE) {
-      const du = (shift % L) - R;
-      const dv = Math.floor(shift / L) - R;
-      K.k.corr_shifted(this.at[0], this.at[1], this.n, du, dv, this.at[2] + 48);
-      for (let i = 0; i < L * L; i++) rr[i] = res[6 + i]!;
-      if (this.argmax() !== CENTRE) return false;
-      return this.peak(res[4]!, res[5]!, out, idx, du, dv);
-    }
-    return this.peak(res[4]!, res[5]!, out, idx, 0, 0);
+    this.r.set(res.subarray(6));
+    return this.settle(res[4]!, res[5]!, out, idx, true);
   }
 
   /**
@@ -167,16 +156,26 @@ export class DirectWindowCorrelator {
       return true;
     }
     lagSums(a, b, n, this.r, 0, 0);
+    return this.settle(ea, eb, out, idx, false);
+  }
+
+  /**
+   * From the lag sums around lag 0 in this.r: the peak where the maximum is at lag 0; the lags computed
+   * again around a maximum 1 px off (the same windows, with the kernel that computed them: `simd`),
+   * then the peak if it is centred there; otherwise false (the FFT plane decides).
+   */
+  private settle(ea: number, eb: number, out: CorrelationOutputs, idx: number, simd: boolean): boolean {
     const shift = this.recentre();
     if (shift < 0) return false;
-    if (shift !== CENTRE) {
-      const du = (shift % L) - R;
-      const dv = Math.floor(shift / L) - R;
-      lagSums(a, b, n, this.r, du, dv);
-      if (this.argmax() !== CENTRE) return false;
-      return this.peak(ea, eb, out, idx, du, dv);
-    }
-    return this.peak(ea, eb, out, idx, 0, 0);
+    if (shift === CENTRE) return this.peak(ea, eb, out, idx, 0, 0);
+    const du = (shift % L) - R;
+    const dv = Math.floor(shift / L) - R;
+    if (simd) {
+      this.K!.k.corr_shifted(this.at[0], this.at[1], this.n, du, dv, this.at[2] + 48);
+      this.r.set(this.res.subarray(6));
+    } else lagSums(this.a, this.b, this.n, this.r, du, dv);
+    if (this.argmax() !== CENTRE) return false;
+    return this.peak(ea, eb, out, idx, du, dv);
   }
 
   /** Index of the largest of the 25 lag sums in this.r. */
