@@ -5,7 +5,9 @@
  * pixel by pixel (including positions whose kernel leaves the image), and the lag-limited correlator
  * gives the same displacement, correlation and peak ratio from either kernel.
  */
+import { spawnSync } from 'node:child_process';
 import { readFileSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { buildKernels, wasmPath } from '../../scripts/build-wasm.mjs';
 import { simdKernels } from '../../packages/core/src/correlate/simdKernels.js';
@@ -124,4 +126,36 @@ describe('WebAssembly SIMD kernels', () => {
         expect(Math.abs(js.dy[c]! - dy)).toBeLessThan(0.08);
       }
     });
+});
+
+describe('TypeScript fallback (RHOFIELD_KERNELS=js)', () => {
+  it('measures the same field as the SIMD kernels (separate processes, 256² uniform shift)', () => {
+    // ground truth: the shift given to the project's dot renderer (synthPair); the two engines must
+    // agree to single precision, and both must find it
+    const script = `
+      import { measureDisplacement, synthPair, closeWorkers } from '@rhofield/core';
+      const { ref, meas } = synthPair({ width: 256, height: 256, diameterPx: 2.8, seed: 4, displacement: { kind: 'uniform', dx: 1.21, dy: -0.77 } });
+      const r = await measureDisplacement(ref, meas, { threads: 1 });
+      console.log(JSON.stringify({ dx: Array.from(r.dxPx.data), dy: Array.from(r.dyPx.data) }));
+      await closeWorkers();`;
+    const run = (kernels: string): { dx: number[]; dy: number[] } => {
+      const r = spawnSync(process.execPath, ['--import', 'tsx', '--input-type=module', '-e', script], {
+        env: { ...process.env, RHOFIELD_KERNELS: kernels },
+        encoding: 'utf8',
+        cwd: fileURLToPath(new URL('../..', import.meta.url)),
+      });
+      expect(r.status, r.stderr).toBe(0);
+      return JSON.parse(r.stdout.trim().split('\n').pop()!);
+    };
+    const simd = run('wasm');
+    const js = run('js');
+    expect(js.dx.length).toBe(simd.dx.length);
+    let worst = 0;
+    for (let k = 0; k < js.dx.length; k++) {
+      worst = Math.max(worst, Math.abs(js.dx[k]! - simd.dx[k]!), Math.abs(js.dy[k]! - simd.dy[k]!));
+      expect(Math.abs(js.dx[k]! - 1.21)).toBeLessThan(0.05);
+      expect(Math.abs(js.dy[k]! + 0.77)).toBeLessThan(0.05);
+    }
+    expect(worst).toBeLessThan(1e-3);
+  }, 60_000);
 });
