@@ -115,13 +115,17 @@ describe('runBatch (fake processor)', () => {
     const r = await runBatch({ ...other, force: true }, inProcessExecutor(processPair), { probe });
     expect(r.processed).toBe(3);
     expect(JSON.parse(readFileSync(path.join(out, 'run.json'), 'utf8')).settings).toEqual({ windowPx: 64 });
-    // a non-batch folder with files is refused too
+    // a folder with other files takes the results beside them
     const junk = tmp();
     writeFileSync(path.join(junk, 'notes.txt'), 'x');
-    await expect(runBatch(plan(junk, jobs), inProcessExecutor(processPair), { probe })).rejects.toThrow(/not a batch folder/);
-    // ... even with --force, which only ever deletes a batch's own entries
-    await expect(runBatch({ ...plan(junk, jobs), force: true }, inProcessExecutor(processPair), { probe })).rejects.toThrow(/not a batch folder/);
+    expect((await runBatch(plan(junk, jobs), inProcessExecutor(processPair), { probe })).processed).toBe(3);
     expect(readFileSync(path.join(junk, 'notes.txt'), 'utf8')).toBe('x');
+    // a foreign entry with a name the batch writes is refused, even with --force (which only ever deletes a batch's own entries)
+    const clash = tmp();
+    writeFileSync(path.join(clash, 'statistics'), 'mine');
+    await expect(runBatch(plan(clash, jobs), inProcessExecutor(processPair), { probe })).rejects.toThrow(/statistics, which is not from a batch run/);
+    await expect(runBatch({ ...plan(clash, jobs), force: true }, inProcessExecutor(processPair), { probe })).rejects.toThrow(/never replaces it, even with --force/);
+    expect(readFileSync(path.join(clash, 'statistics'), 'utf8')).toBe('mine');
     // a user's file inside a batch folder survives --force
     writeFileSync(path.join(out, 'notes.txt'), 'keep');
     await runBatch({ ...plan(out, jobs), force: true }, inProcessExecutor(processPair), { probe });

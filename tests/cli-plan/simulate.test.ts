@@ -30,7 +30,7 @@ describe('rhofield simulate', () => {
   it('--out writes 16-bit images and result.json; correlating those images gives the planned peak within 5 %', async () => {
     const r = await cli('simulate', '--setup', setupFile, '--field', 'gaussian', '--size', '192', '--window', '16', '--seed', '3', '--out', out, '--json');
     expect(r.code, r.err).toBe(0);
-    expect(readdirSync(out).sort()).toEqual(['measurement.png', 'reference.png', 'result.json']);
+    expect(readdirSync(out).sort()).toEqual(['.rhofield-manifest.json', 'measurement.png', 'reference.png', 'result.json']);
     const j = JSON.parse(r.out);
     expect(JSON.parse(readFileSync(path.join(out, 'result.json'), 'utf8')).errors).toEqual(j.errors);
     expect(r.err).toMatch(/peak displacement/);

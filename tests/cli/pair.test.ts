@@ -77,7 +77,7 @@ describe('rhofield displacement REF MEAS --out DIR', () => {
     const out = path.join(dir, 'ok');
     const r = await cli(['displacement', ref, meas, '--out', out, '--threads', '1']);
     expect(r.code).toBe(2);
-    expect(r.err).toMatch(/already holds results.*--force/);
+    expect(r.err).toMatch(/already holds rhofield results.*--force/);
     const f = await cli(['displacement', ref, meas, '--out', out, '--threads', '1', '--force', '--quiet']);
     expect(f.code, f.err).toBe(0);
   });

@@ -109,90 +109,15 @@ export function requireFile(label: string, file: string): void {
   if (!statSync(file).isFile()) throw new RhofieldError('input', `${label} ${file} is not a file; check the path`);
 }
 
+export { OutputDir, storageError, writeOutputFiles, type OutputDirOptions, type OutputFile } from './outputs.js';
+import { writeOutputFiles } from './outputs.js';
+
 /**
- * An output folder written atomically: files go to a hidden sibling staging folder and the whole folder
- * is renamed into place at `commit()`. An existing folder with files is refused unless `force`; with
- * `force` it is replaced only when the new results are complete. `abort()` removes the staging folder.
+ * Write one file atomically, replacing an existing one (hidden temporary file beside it + rename; storage
+ * errors name the file). Files the user named without --force go through writeOutputFiles(…, false).
  */
-export class OutputDir {
-  readonly staging: string;
-  private done = false;
-  private constructor(readonly target: string, private readonly force: boolean) {
-    const parent = path.dirname(path.resolve(target));
-    this.staging = path.join(parent, `.${path.basename(target)}.rhofield-partial-${process.pid}-${Date.now()}`);
-  }
-
-  /** Check the target and create the staging folder. Throws a usage error if results exist and !force. */
-  static async open(target: string, force = false): Promise<OutputDir> {
-    if (!target) throw invalidParameter('--out', 'an output folder', target);
-    const abs = path.resolve(target);
-    if (existsSync(abs)) {
-      if (!statSync(abs).isDirectory()) throw new RhofieldError('usage', `--out ${target} exists and is not a folder; choose another path`);
-      const entries = await fsp.readdir(abs);
-      if (entries.length > 0 && !force) {
-        throw new RhofieldError('usage', `--out ${target} already holds results; pass --force to replace them or choose another folder`);
-      }
-    }
-    const parent = path.dirname(abs);
-    try {
-      await fsp.mkdir(parent, { recursive: true });
-    } catch (e) {
-      throw new RhofieldError('usage', `--out ${target}: cannot create parent folder (${(e as Error).message}); choose a writable path`);
-    }
-    const d = new OutputDir(abs, force);
-    try {
-      await fsp.mkdir(d.staging, { recursive: true });
-    } catch (e) {
-      throw new RhofieldError('usage', `--out ${target} is not writable (${(e as NodeJS.ErrnoException).code ?? 'error'}); choose a writable folder`);
-    }
-    return d;
-  }
-
-  /** Path of a file inside the staging folder. */
-  file(name: string): string {
-    return path.join(this.staging, name);
-  }
-
-  async writeFile(name: string, data: string | Uint8Array): Promise<void> {
-    await fsp.writeFile(this.file(name), data);
-  }
-
-  /** Move the complete results into place. */
-  async commit(): Promise<void> {
-    if (this.done) return;
-    if (existsSync(this.target)) {
-      const entries = await fsp.readdir(this.target);
-      if (entries.length > 0 && !this.force) {
-        throw new RhofieldError('usage', `--out ${this.target} was filled by another process meanwhile; rerun with --force or another folder`);
-      }
-      const old = this.staging + '-old';
-      await fsp.rename(this.target, old);
-      await fsp.rename(this.staging, this.target);
-      await fsp.rm(old, { recursive: true, force: true });
-    } else {
-      await fsp.rename(this.staging, this.target);
-    }
-    this.done = true;
-  }
-
-  /** Remove the staging folder (on any failure). */
-  async abort(): Promise<void> {
-    if (this.done) return;
-    this.done = true;
-    await fsp.rm(this.staging, { recursive: true, force: true });
-  }
-}
-
-/** Write JSON atomically (temp file + rename) to a plain path. */
 export async function writeFileAtomic(file: string, data: string | Uint8Array): Promise<void> {
-  const tmp = `${file}.tmp-${process.pid}-${Date.now()}`;
-  try {
-    await fsp.writeFile(tmp, data);
-    await fsp.rename(tmp, file);
-  } catch (e) {
-    await fsp.rm(tmp, { force: true });
-    throw e;
-  }
+  await writeOutputFiles([{ path: file, data }], true);
 }
 
 /** The git commit of the checkout the tool runs from, when available. */

@@ -6,6 +6,7 @@ import { Command, CommanderError } from 'commander';
 import { VERSION } from '@rhofield/core';
 import { EXIT, EXIT_CODES_HELP, reportError } from './common.js';
 import { commands } from './commands/index.js';
+import { installSignalCleanup } from './outputs.js';
 
 export function buildProgram(): Command {
   const program = new Command();
@@ -50,6 +51,8 @@ const isMain = (() => {
 })();
 
 if (isMain) {
+  // Ctrl-C / SIGTERM: remove unfinished results, exit 130 / 143 (not in-process callers of run())
+  installSignalCleanup();
   run(process.argv.slice(2)).then(
     (code) => {
       process.exitCode = code;

@@ -92,13 +92,14 @@ export async function claimFolder(dir: string, settings: Record<string, unknown>
     const st = await fsp.stat(dir);
     if (!st.isDirectory()) throw new RhofieldError('usage', `--out ${dir} exists and is not a folder; choose another path`);
     // logs/ may be made by --emit-job-script before the first task; run.json.tmp-* is a claim killed mid-way
-    const entries = (await fsp.readdir(dir)).filter((e) => e !== 'logs' && !e.startsWith('run.json.tmp-'));
+    // other files (the user's frames, notes) may share the folder: only the batch's own names matter
+    const entries = (await fsp.readdir(dir)).filter((e) => e !== 'logs' && !e.startsWith('run.json.tmp-') && isBatchEntry(e));
     // a damaged run.json still marks a batch folder, which --force may discard
     const existing = existsSync(mf) ? await readManifest(mf).catch((e: unknown) => (force ? ({ settingsHash: '' } as Partial<Manifest>) : Promise.reject(e))) : null;
     const same = existing?.kind === 'rhofield-batch' && existing.settingsHash === hash;
     if (entries.length > 0 && !existing) {
       // even with --force: only a batch folder's own entries are ever deleted
-      throw new RhofieldError('usage', `--out ${dir} is not empty and is not a batch folder (no run.json); choose another folder (--force only replaces an earlier batch's results)`);
+      throw new RhofieldError('usage', `--out ${dir} holds ${path.join(dir, entries[0]!)}, which is not from a batch run (no run.json); rhofield never replaces it, even with --force: move it away or choose another folder`);
     }
     if (force && entries.length > 0) {
       if (shard) {

@@ -20,7 +20,7 @@ import {
   type PairJob,
   type ShardSpec,
 } from '@rhofield/core';
-import { EXIT, Log, parseIntOpt, provenance, sha256File, writeFileAtomic } from '../common.js';
+import { EXIT, Log, parseIntOpt, provenance, sha256File, writeOutputFiles } from '../common.js';
 import { DEFAULT_FORMATS } from '../pipeline.js';
 import { pairOptionsFromCli } from './displacement.js';
 import { resolveFrames } from '../batch/frames.js';
@@ -198,7 +198,7 @@ export async function batchCommand(o: BatchOpts, executorFactory?: (workers: num
     if (o.force) log.warn('--force is not passed to the job array (tasks would delete each other\'s results); remove the folder before submitting if you want a fresh run');
     mkdirSync(path.join(outDir, 'logs'), { recursive: true });
     const text = jobScript({ tasks, workersPerTask: workers, outDir, cwd: process.cwd(), command: [process.execPath, BIN, ...commandArgs(o, workers)] });
-    await writeFileAtomic(o.emitJobScript, text);
+    await writeOutputFiles([{ path: o.emitJobScript, data: text }], !!o.force, '--emit-job-script');
     await fsp.chmod(o.emitJobScript, 0o755);
     log.info(`wrote ${o.emitJobScript}: a job array of ${tasks} tasks over ${jobs.length} pairs; submit it with sbatch, then run: rhofield merge ${o.out}`);
     log.json({ command: 'batch', jobScript: path.resolve(o.emitJobScript), tasks, pairs: jobs.length, out: outDir });

@@ -42,7 +42,7 @@ export function addDisplacementOptions(cmd: Command): Command {
     .option('--threads <n>', 'threads for correlation (default: all cores)')
     .option('--ref-page <n>', 'page of a multi-page TIFF reference (0-based)')
     .option('--meas-page <n>', 'page of a multi-page TIFF measurement (0-based)')
-    .option('--force', 'replace existing results in --out')
+    .option('--force', 'replace the results rhofield wrote in --out earlier (other files are never touched)')
     .option('--json', 'print a machine summary (result.json) on stdout')
     .option('--quiet', 'no progress messages (a progress bar appears only on a terminal, after ~1 s)')
     .option('--verbose', 'more messages, stack traces on errors');
@@ -90,7 +90,7 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
   }
   const refPage = parseIntOpt('--ref-page', o.refPage, 0);
   const measPage = parseIntOpt('--meas-page', o.measPage, 0);
-  const out = await OutputDir.open(o.out, !!o.force);
+  const out = await OutputDir.open(o.out, !!o.force, { command: kind, expect: ['result.json'] });
   const progress = new StageProgress(o);
   try {
     log.info(`rhofield ${kind}: ${ref} → ${meas}`);
@@ -115,7 +115,7 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
   } catch (e) {
     progress.stop();
     await out.abort();
-    throw e;
+    throw out.explain(e);
   }
 }
 
@@ -126,7 +126,7 @@ export function register(program: Command): void {
     .description('measure the dot displacement field between a reference and a measurement photograph')
     .argument('<ref>', 'reference image (no flow): PNG, TIFF (8/16-bit, multi-page) or JPEG')
     .argument('<meas>', 'measurement image (through the flow), same size')
-    .requiredOption('--out <dir>', 'output folder (must be new or empty unless --force)');
+    .requiredOption('--out <dir>', 'output folder (new, or any folder: results go in beside other files; --force replaces earlier results)');
   addDisplacementOptions(d)
     .addHelpText(
       'after',
@@ -148,7 +148,7 @@ ${EXIT_CODES_HELP}`,
     .argument('<ref>', 'reference image (no flow)')
     .argument('<meas>', 'measurement image (through the flow), same size')
     .requiredOption('--setup <file>', 'setup file (JSON: camera, geometry, medium, flow; SI units)')
-    .requiredOption('--out <dir>', 'output folder (must be new or empty unless --force)');
+    .requiredOption('--out <dir>', 'output folder (new, or any folder: results go in beside other files; --force replaces earlier results)');
   addDisplacementOptions(r)
     .addHelpText(
       'after',

@@ -17,7 +17,7 @@ import {
   MAX_PNG_PIXELS,
   RhofieldError,
 } from '@rhofield/core';
-import { EXIT_CODES_HELP, Log, parseIntOpt, parseNumOpt, writeFileAtomic } from '../common.js';
+import { EXIT_CODES_HELP, Log, parseIntOpt, parseNumOpt, writeOutputFiles } from '../common.js';
 
 interface PatternOpts {
   width?: string;
@@ -98,7 +98,7 @@ export function register(program: Command): void {
       }
       const pat = generatePattern({ width, height, dotDiameter: dot, seed, ...(fill !== undefined ? { fill } : {}) });
       const bytes = ext === '.svg' ? patternToSvg(pat) : ext === '.pdf' ? patternToPdf(pat) : await patternToPng(pat, dpi);
-      await writeFileAtomic(o.out, bytes);
+      await writeOutputFiles([{ path: o.out, data: bytes }], !!o.force, '--out');
       if (dotNote) log.info(dotNote);
       log.info(
         `wrote ${o.out}: ${(width * 1e3).toFixed(1)} × ${(height * 1e3).toFixed(1)} mm, ${pat.count} dots of ${(dot * 1e3).toFixed(3)} mm, fill ${pat.achievedFill.toFixed(4)}, seed ${seed}` +

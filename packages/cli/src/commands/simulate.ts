@@ -118,7 +118,7 @@ export function register(program: Command): void {
     .option('--mach <M>', 'shock: upstream Mach number, 1.05–10 (default 2)')
     .option('--wedge <deg>', 'shock: wedge half-angle in degrees, below the detachment angle (default 10)')
     .option('--out <dir>', 'write reference.png, measurement.png (16-bit), mask.png (shock) and result.json to this folder')
-    .option('--force', 'replace existing results in --out')
+    .option('--force', 'replace the results rhofield wrote in --out earlier (other files are never touched)')
     .option('--json', 'print the summary (as in result.json) on stdout')
     .option('--quiet', 'no table on stderr')
     .option('--verbose', 'more detail, stack traces on errors')
@@ -162,7 +162,7 @@ ${EXIT_CODES_HELP}`,
       const setup = loadSetup(o.setup);
       if (!setup.expected) throw invalidParameter(`${o.setup}: expected`, 'an object {densityChange | temperatureChange, lengthScale} (the planner needs it)', undefined);
       // open the output folder first, so an existing folder is refused before the work
-      const out = o.out !== undefined ? await OutputDir.open(o.out, !!o.force) : undefined;
+      const out = o.out !== undefined ? await OutputDir.open(o.out, !!o.force, { command: 'simulate', expect: ['reference.png', 'measurement.png', 'result.json'] }) : undefined;
       try {
         const r = await simulateSetup(setup, createSimulationEngines(), {
           field,
@@ -198,7 +198,7 @@ ${EXIT_CODES_HELP}`,
         log.json(s);
       } catch (e) {
         await out?.abort();
-        throw e;
+        throw out ? out.explain(e) : e;
       }
     });
 }

@@ -21,7 +21,7 @@ import {
   viewFigure,
   type Field,
 } from '@rhofield/core';
-import { EXIT_CODES_HELP, Log, parseNumOpt, writeFileAtomic, type GlobalOpts } from '../common.js';
+import { EXIT_CODES_HELP, Log, OutputDir, parseNumOpt, writeOutputFiles, type GlobalOpts } from '../common.js';
 
 const KINDS = ['knife-edge', 'colour', 'shadowgraph', 'contour'] as const;
 type Kind = (typeof KINDS)[number];
@@ -116,10 +116,23 @@ async function runView(kindRaw: string, dir: string, o: ViewOpts): Promise<void>
   if (dpi !== undefined && widthMm === undefined) throw new RhofieldError('usage', '--dpi needs --figure-width (the print width in mm); add --figure-width or drop --dpi');
   const fig = viewFigure(view, { xMm, yMm, axisUnit: haveM ? 'mm' : 'px', title, ...(widthMm !== undefined ? { widthMm } : {}), ...(dpi !== undefined ? { dpi } : {}) });
   const base = o.out ?? path.join(dir, `view_${kind}${kind === 'knife-edge' ? `_${angle}deg` : ''}.png`);
-  if (existsSync(base) && !o.force) throw invalidParameter('--out', 'a file that does not exist yet (or pass --force)', base);
-  const png = await fig.png();
-  await writeFileAtomic(base, png);
-  if (base.endsWith('.png')) await writeFileAtomic(base.replace(/\.png$/, '.svg'), fig.svg);
+  const svgName = base.endsWith('.png') ? base.replace(/\.png$/, '.svg') : null;
+  if (o.out === undefined) {
+    // into the result folder: the figures join its list of files rhofield wrote (a foreign file of the same name is never replaced)
+    const names = [path.basename(base), ...(svgName ? [path.basename(svgName)] : [])];
+    const folder = await OutputDir.open(dir, !!o.force, { command: 'view', mode: 'add', expect: names, label: 'result folder' });
+    try {
+      await folder.writeFile(names[0]!, await fig.png());
+      if (svgName) await folder.writeFile(names[1]!, fig.svg);
+      await folder.commit();
+    } catch (e) {
+      await folder.abort();
+      throw folder.explain(e);
+    }
+  } else {
+    // a file the user named (and the SVG beside it): replaced only with --force
+    await writeOutputFiles([{ path: base, data: await fig.png() }, ...(svgName ? [{ path: svgName, data: fig.svg }] : [])], !!o.force, '--out');
+  }
   log.info(`wrote ${base}`);
   log.json({ kind, file: base, source: what, unit });
 }
@@ -135,7 +148,7 @@ export function register(program: Command): void {
     .option('--out <file.png>', 'output PNG (an SVG is written beside it); default RESULT_DIR/view_<kind>.png')
     .option('--figure-width <mm>', 'print width in mm (with --dpi; default: 800 px wide)')
     .option('--dpi <n>', 'resolution for print, 72–1200 (default 96 with --figure-width)')
-    .option('--force', 'replace an existing output file')
+    .option('--force', 'replace an existing view (in RESULT_DIR only one rhofield wrote; a file named by --out in any case)')
     .option('--json', 'machine summary on stdout')
     .option('--quiet', 'no messages')
     .option('--verbose', 'more messages')
