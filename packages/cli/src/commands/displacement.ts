@@ -97,9 +97,13 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
     const summary = await processPair(
       { refPath: ref, measPath: meas, ...(refPage !== undefined ? { refPage } : {}), ...(measPage !== undefined ? { measPage } : {}), options },
       out.staging,
-      (stage, fraction) => progress.stage(stage, fraction),
+      (stage, fraction) => {
+        progress.stage(stage, fraction);
+        log.debug(`stage: ${stage}`);
+      },
     );
     progress.stage('moving results into place', 0.99);
+    log.debug('stage: moving results into place');
     await out.commit();
     progress.stop();
     const d = summary.displacement as { counts: Record<string, number>; maxMagnitudePx: number | null };
