@@ -251,6 +251,22 @@ function scrub(e: unknown, internal: string, shown: string): unknown {
   return c;
 }
 
+/**
+ * A recursive mkdir can report ENOENT where the real cause is a read-only or unwritable ancestor:
+ * retry the first missing level on its own to learn the true error.
+ */
+async function realMkdirError(abs: string, e: unknown): Promise<unknown> {
+  let dir = abs;
+  while (!existsSync(path.dirname(dir)) && path.dirname(dir) !== dir) dir = path.dirname(dir);
+  try {
+    await fsp.mkdir(dir);
+    await fsp.rmdir(dir);
+    return e;
+  } catch (e2) {
+    return e2;
+  }
+}
+
 // ---------------------------------------------------------------------------------------------------
 // manifest
 
@@ -396,7 +412,8 @@ export class OutputDir implements Cleanable {
     } else {
       try {
         created = await fsp.mkdir(abs, { recursive: true });
-      } catch (e) {
+      } catch (e0) {
+        const e = await realMkdirError(abs, e0);
         const mapped = storageError(e, label, target);
         if (mapped !== e) throw mapped;
         throw new RhofieldError('usage', `${label} ${target} cannot be created (${(e as NodeJS.ErrnoException).code ?? (e as Error).message}); choose a writable path`);
