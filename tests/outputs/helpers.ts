@@ -5,7 +5,7 @@
  */
 import { spawn, spawnSync, type ChildProcessWithoutNullStreams } from 'node:child_process';
 import { createHash } from 'node:crypto';
-import { existsSync, mkdirSync, readdirSync, readFileSync, statSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync, rmSync, statSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -84,6 +84,7 @@ export function canMount(): boolean {
   const probe = path.join(os.tmpdir(), `rhofield-mount-probe-${process.pid}`);
   const ok = mountTmpfs(probe, 'size=64k');
   if (ok) unmount(probe);
+  rmSync(probe, { recursive: true, force: true });
   return ok;
 }
 

@@ -96,7 +96,7 @@ export function installSignalCleanup(): void {
         }
       }
       live.clear();
-      process.stderr.write(`rhofield: interrupted (${sig})${had ? '; unfinished results removed, nothing was changed' : ''}\n`);
+      process.stderr.write(`rhofield: interrupted (${sig})${had ? '; unfinished files removed' : ''}\n`);
       process.exit(code);
     };
     if (state.committing > 0) {
@@ -108,6 +108,18 @@ export function installSignalCleanup(): void {
   };
   process.on('SIGINT', () => onSignal('SIGINT'));
   process.on('SIGTERM', () => onSignal('SIGTERM'));
+}
+
+/**
+ * Remove `p` (a folder or file of unfinished work, e.g. a batch pair's staging folder) if the process
+ * is interrupted; call the returned function once the work is finished or cleaned up.
+ */
+export function removeOnInterrupt(p: string): () => void {
+  const c: Cleanable = { cleanupSync: () => rmSync(p, { recursive: true, force: true }) };
+  live.add(c);
+  return () => {
+    live.delete(c);
+  };
 }
 
 function enterCommit(): void {

@@ -16,6 +16,7 @@ import { existsSync, promises as fsp } from 'node:fs';
 import path from 'node:path';
 import { RhofieldError, selectShard, settingsHash as hashSettings, type PairJob, type ShardSpec } from '@rhofield/core';
 import { isBatchEntry, isStorageFull, layout, writeAtomic } from './folders.js';
+import { removeOnInterrupt } from '../outputs.js';
 import { accumulatePairs, mergePartials, writePartial, writeStatistics } from './statistics.js';
 import type { ImageProbe, PairExecutor, PairSummaryLike, ProbeFn } from './types.js';
 
@@ -192,6 +193,7 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
 
   const onePair = async (j: PairJob): Promise<void> => {
     const stage = layout.staging(dir, j.id, tag);
+    let release = (): void => {};
     try {
       if (runSize) {
         for (const [p, pg] of [
@@ -208,6 +210,7 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
         }
       }
       await fsp.mkdir(stage);
+      release = removeOnInterrupt(stage);
       const t0 = performance.now();
       const summary: PairSummaryLike = await executor.run(
         { refPath: j.refPath, measPath: j.measPath, ...(j.refPage !== undefined ? { refPage: j.refPage } : {}), ...(j.measPage !== undefined ? { measPage: j.measPage } : {}), options: plan.pairOptions },
@@ -235,6 +238,8 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
       }
       done++;
       hooks.onPair?.({ id: j.id, ok: false, done, total: todo.length, error });
+    } finally {
+      release();
     }
   };
 
