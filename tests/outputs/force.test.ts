@@ -224,6 +224,45 @@ describe('--force keeps every file rhofield did not write (SHA-256 before and af
   });
 });
 
+describe('two processes writing one folder at the same time (real processes)', () => {
+  it('both --force runs succeed: one complete set, every listed file intact, the user\'s files untouched', async () => {
+    const { dir, mine } = userFolder('race');
+    const before = snapshot(dir, mine);
+    const { rhofieldAsync } = await import('./helpers.js');
+    const runs = ['32', '64'].map((w) => {
+      const c = rhofieldAsync(['displacement', ...pairArgs(dir), '--out', dir, '--window', w, '--passes', '1', '--threads', '1', '--force', '--quiet']);
+      let err = '';
+      c.stderr.on('data', (d: Buffer) => (err += d.toString()));
+      return new Promise<{ code: number | null; err: string }>((resolve) => c.on('exit', (code) => resolve({ code, err })));
+    });
+    const results = await Promise.all(runs);
+    for (const r of results) expect(r.code, r.err).toBe(0);
+    expect(snapshot(dir, mine)).toEqual(before);
+    expectConsistent(dir, mine);
+  }, 120_000);
+});
+
+describe('the commit lock', () => {
+  it('a commit waits while a live process holds the folder\'s lock, and takes over the lock of a dead one', async () => {
+    const { HOST_TAG, deadPid } = await import('./helpers.js');
+    const { dir, mine } = userFolder('lock');
+    const lock = path.join(dir, '.rhofield-commit-lock');
+    writeFileSync(lock, `${HOST_TAG}-${process.ppid}-l0ck`);
+    const run = cli('displacement', ...pairArgs(dir), '--out', dir, '--threads', '1', '--quiet');
+    await new Promise((r) => setTimeout(r, 2500)); // the demo pair takes well under a second
+    expect(existsSync(path.join(dir, '.rhofield-manifest.json'))).toBe(false);
+    rmSync(lock);
+    const r = await run;
+    expect(r.code, r.err).toBe(0);
+    expectConsistent(dir, mine);
+    writeFileSync(lock, `${HOST_TAG}-${deadPid()}-l0ck`);
+    const r2 = await cli('displacement', ...pairArgs(dir), '--out', dir, '--threads', '1', '--force', '--quiet');
+    expect(r2.code, r2.err).toBe(0);
+    expect(existsSync(lock)).toBe(false);
+    expectConsistent(dir, mine);
+  }, 60_000);
+});
+
 describe('batch --force keeps the frames and notes inside --out (real process)', () => {
   it('frames, reference and a notes file in --out are byte-identical after a batch and a batch --force', async () => {
     const { writeSequence } = await import('../batch/synthFrames.js');

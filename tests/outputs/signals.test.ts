@@ -79,7 +79,7 @@ const moments: Array<[string, number]> = [
   ['measuring displacement', 300],
   ['writing displacement files', 100],
   ['reconstructing density', 0],
-  ['writing density files', 200],
+  ['writing density files', 100],
 ];
 
 describe('interrupting rhofield density on a 2048² pair', () => {

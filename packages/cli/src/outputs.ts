@@ -66,11 +66,6 @@ interface Cleanable {
 const live = new Set<Cleanable>();
 const state = { interrupted: 0, committing: 0, afterCommit: null as (() => void) | null };
 
-/** True once SIGINT/SIGTERM was received (work should stop). */
-export function interrupted(): boolean {
-  return state.interrupted !== 0;
-}
-
 function interruptedError(): RhofieldError {
   return new RhofieldError('processing', 'interrupted; no results were written');
 }
@@ -86,8 +81,7 @@ export function installSignalCleanup(): void {
     const code = sig === 'SIGINT' ? 130 : 143;
     if (state.interrupted) return;
     state.interrupted = code;
-    const finish = (): void => {
-      const had = live.size;
+    const cleanAll = (): void => {
       for (const x of [...live]) {
         try {
           x.cleanupSync();
@@ -96,11 +90,16 @@ export function installSignalCleanup(): void {
         }
       }
       live.clear();
+    };
+    const finish = (): void => {
+      const had = live.size;
+      cleanAll();
       process.stderr.write(`rhofield: interrupted (${sig})${had ? '; unfinished files removed' : ''}\n`);
       process.exit(code);
     };
     if (state.committing > 0) {
       state.afterCommit = () => {
+        cleanAll();
         process.stderr.write(`rhofield: interrupted (${sig}) while moving the finished results into place; they are complete\n`);
         process.exit(code);
       };
@@ -214,6 +213,39 @@ async function removeLegacyPartials(target: string): Promise<void> {
     const m = re.exec(n);
     if (m && !pidAlive(Number(m[1]))) await fsp.rm(path.join(parent, n), { recursive: true, force: true }).catch(() => {});
   }
+}
+
+/** Name of the lock a commit holds in the folder (its content: the owner tag). */
+const LOCK_NAME = '.rhofield-commit-lock';
+
+/**
+ * Take the folder's commit lock (exclusive create), so that two processes never exchange result sets in
+ * one folder at the same time. A lock of a dead process of this host is taken over; a live one is
+ * waited for (up to ~30 s).
+ */
+async function takeLock(dir: string, tag: string, shownDir: string, label: string): Promise<() => void> {
+  const lock = path.join(dir, LOCK_NAME);
+  for (let i = 0; i < 600; i++) {
+    try {
+      await fsp.writeFile(lock, tag, { flag: 'wx' });
+      const release = (): void => rmSync(lock, { force: true });
+      const c: Cleanable = { cleanupSync: release };
+      live.add(c);
+      return () => {
+        live.delete(c);
+        release();
+      };
+    } catch (e) {
+      if ((e as NodeJS.ErrnoException).code !== 'EEXIST') throw e;
+      const owner = await fsp.readFile(lock, 'utf8').catch(() => '');
+      if (owner && deadOwner(owner)) {
+        await fsp.rm(lock, { force: true });
+        continue;
+      }
+      await new Promise((r) => setTimeout(r, 50));
+    }
+  }
+  throw new RhofieldError('processing', `${label} ${shownDir} is being written by another rhofield process (${LOCK_NAME}); wait for it to finish or choose another ${label}`);
 }
 
 // ---------------------------------------------------------------------------------------------------
@@ -392,6 +424,7 @@ export interface OutputDirOptions {
  */
 export class OutputDir implements Cleanable {
   readonly staging: string;
+  private readonly tag = ownerTag();
   private done = false;
   private constructor(
     /** Absolute path of the folder. */
@@ -405,7 +438,7 @@ export class OutputDir implements Cleanable {
     /** First folder this run created (removed again on abort if empty), or undefined. */
     private readonly created: string | undefined,
   ) {
-    this.staging = path.join(target, `${STAGING_PREFIX}${ownerTag()}`);
+    this.staging = path.join(target, `${STAGING_PREFIX}${this.tag}`);
   }
 
   /**
@@ -495,6 +528,7 @@ export class OutputDir implements Cleanable {
   async commit(): Promise<string[]> {
     if (this.done) return [];
     if (state.interrupted) throw interruptedError();
+    let unlock = (): void => {};
     try {
       const names: string[] = [];
       for (const ent of await fsp.readdir(this.staging, { withFileTypes: true })) {
@@ -502,6 +536,7 @@ export class OutputDir implements Cleanable {
         names.push(ent.name);
       }
       names.sort();
+      unlock = await takeLock(this.target, this.tag, this.shown, this.label);
       const m = await readManifest(this.target, this.shown);
       const owned = await ownedEntries(this.target, m);
       if (this.mode === 'replace' && !this.force && owned.size > 0) {
@@ -534,6 +569,8 @@ export class OutputDir implements Cleanable {
       return names;
     } catch (e) {
       throw this.explain(e);
+    } finally {
+      unlock();
     }
   }
 
