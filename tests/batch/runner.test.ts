@@ -156,6 +156,8 @@ describe('runBatch (fake processor)', () => {
     const jobs = jobsOf(6);
     const r = await runBatch(plan(out, jobs, { enospcPattern: 'frame_00002' }), inProcessExecutor(processPair), { probe });
     expect(r.stoppedBecause).toMatch(/disk is full .*rerun the same command/);
+    expect(r.stoppedBecause).toContain(out);
+    expect(r.stoppedBecause).not.toMatch(/\.partial-/);
     const names = readdirSync(path.join(out, 'pairs'));
     expect(names.filter((n) => n.startsWith('.'))).toEqual([]);
     expect(names).not.toContain('frame_00002');

@@ -142,6 +142,13 @@ function formatsOf(settings: Record<string, unknown> | undefined): string[] {
   return Array.isArray(f) && f.every((x) => typeof x === 'string') ? (f as string[]) : ['npy'];
 }
 
+/** The storage error's code (ENOSPC, EDQUOT, EROFS), for messages that must not name a staging file. */
+function storageCode(e: unknown): string {
+  const code = (e as NodeJS.ErrnoException | undefined)?.code;
+  if (typeof code === 'string') return code;
+  return /ENOSPC|EDQUOT|EROFS/.exec(errorText(e))?.[0] ?? 'no space or read-only';
+}
+
 function errorText(e: unknown): string {
   return (e instanceof Error ? e.message : String(e)).split('\n')[0] ?? 'unknown error';
 }
@@ -227,13 +234,13 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
       await fsp.rm(stage, { recursive: true, force: true }).catch(() => {});
       const error = errorText(e);
       if (isStorageFull(e)) {
-        stoppedBecause ??= `the output disk is full or read-only (${error}); free space and rerun the same command to resume`;
+        stoppedBecause ??= `--out ${plan.outDir}: the disk is full or read-only (${storageCode(e)}); free space and rerun the same command to resume`;
       } else {
         failed.push({ id: j.id, error });
         try {
           await writeAtomic(layout.failedRecord(dir, j.id), JSON.stringify({ id: j.id, refPath: j.refPath, measPath: j.measPath, refPage: j.refPage, measPage: j.measPage, error, at: new Date().toISOString() }, null, 2) + '\n');
         } catch (we) {
-          if (isStorageFull(we)) stoppedBecause ??= `the output disk is full or read-only; free space and rerun the same command to resume`;
+          if (isStorageFull(we)) stoppedBecause ??= `--out ${plan.outDir}: the disk is full or read-only (${storageCode(we)}); free space and rerun the same command to resume`;
         }
       }
       done++;
@@ -271,7 +278,7 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
       }
     } catch (e) {
       if (!isStorageFull(e)) throw e;
-      stoppedBecause = `the statistics could not be written: the output disk is full or read-only (${errorText(e)}); free space and rerun the same command`;
+      stoppedBecause = `the statistics could not be written: --out ${plan.outDir}: the disk is full or read-only (${storageCode(e)}); free space and rerun the same command`;
     }
   }
   return {

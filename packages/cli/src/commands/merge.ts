@@ -4,7 +4,7 @@
  */
 import path from 'node:path';
 import type { Command } from 'commander';
-import { EXIT, Log } from '../common.js';
+import { EXIT, Log, storageError } from '../common.js';
 import { mergeBatch } from '../batch/runner.js';
 
 interface MergeOpts {
@@ -26,7 +26,8 @@ export function register(program: Command): void {
     .addHelpText('after', '\nExit codes: 0 merged, 1 merged but some pairs had failed (listed), 2 a shard is missing or inconsistent.')
     .action(async (dir: string, o: MergeOpts) => {
       const log = new Log(o);
-      const r = await mergeBatch(dir);
+      // a full or read-only disk names the batch folder, never the statistics' staging folder
+      const r = await mergeBatch(dir).catch((e: unknown) => Promise.reject(storageError(e, 'batch folder', dir)));
       log.info(`merged ${r.shards} shard(s): statistics over ${r.pairsUsed} of ${r.pairsTotal} pairs in ${r.folder}`);
       if (r.failed.length) log.warn(`${r.failed.length} pair(s) are missing from the statistics (failed): ${r.failed.slice(0, 10).join(', ')}${r.failed.length > 10 ? ', …' : ''}`);
       log.json({ command: 'merge', dir: path.resolve(dir), ...r });
