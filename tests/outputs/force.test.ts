@@ -4,7 +4,7 @@
  * --force runs of every command that writes a folder; files of an earlier run that a new run does not
  * produce are removed; a foreign file with a name rhofield would write is refused, naming it.
  */
-import { copyFileSync, existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { copyFileSync, existsSync, lstatSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, symlinkSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -147,6 +147,15 @@ describe('--force keeps every file rhofield did not write (SHA-256 before and af
     expect(r.err).toMatch(/displacement_dx\.png is not a file rhofield wrote/);
     expect(readdirSync(dir).sort()).toEqual([...own2].sort());
     expect(snapshot(dir, own2)).toEqual(before2);
+  });
+
+  it('a symbolic link with a result name (even a dangling one) is the user\'s: refused with --force, the link kept', async () => {
+    const { dir } = userFolder('link');
+    symlinkSync(path.join(tmp, 'elsewhere', 'result.json'), path.join(dir, 'result.json'));
+    const r = await cli('displacement', ...pairArgs(dir), '--out', dir, '--threads', '1', '--force');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/result\.json is not a file rhofield wrote/);
+    expect(lstatSync(path.join(dir, 'result.json')).isSymbolicLink()).toBe(true);
   });
 
   it('a result file the user changed after the run is no longer ours: --force refuses to replace it', async () => {

@@ -25,7 +25,7 @@
  * exists) or renamed (with --force) into place.
  */
 import { createHash } from 'node:crypto';
-import { constants as fsc, createReadStream, existsSync, promises as fsp, readdirSync, rmdirSync, rmSync, statSync } from 'node:fs';
+import { constants as fsc, createReadStream, existsSync, lstatSync, promises as fsp, readdirSync, rmdirSync, rmSync, statSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { RhofieldError, VERSION, invalidParameter } from '@rhofield/core';
@@ -491,7 +491,7 @@ export class OutputDir implements Cleanable {
     const f = path.join(this.target, name);
     let exists = false;
     try {
-      statSync(f);
+      lstatSync(f); // a symbolic link (even a dangling one) is the user's too
       exists = true;
     } catch {
       exists = false;
@@ -558,7 +558,9 @@ export class OutputDir implements Cleanable {
         for (const n of names) await fsp.rename(path.join(this.staging, n), path.join(this.target, n));
         for (const n of remove) await fsp.rm(path.join(this.target, n), { force: true });
         const final = [...keep, ...fresh].sort((a, b) => a.name.localeCompare(b.name));
-        await fsp.writeFile(tmp, manifestText(this.mode === 'add' && m ? m.command : this.command, 'complete', final));
+        // adding to a set whose own commit was interrupted leaves it marked as such
+        const finalState = this.mode === 'add' && m?.state === 'committing' ? 'committing' : 'complete';
+        await fsp.writeFile(tmp, manifestText(this.mode === 'add' && m ? m.command : this.command, finalState, final));
         await fsp.rename(tmp, manifest);
         await fsp.rm(this.staging, { recursive: true, force: true });
         this.done = true;
