@@ -4,7 +4,8 @@
  * this host and its PID is not alive; a live process's staging, or one of another host (a job-array
  * task on another node of a shared file system), is kept.
  */
-import { existsSync, mkdirSync, mkdtempSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -63,5 +64,32 @@ describe('stale staging of dead processes', () => {
     const r = await cli('pattern', '--width', '50mm', '--height', '40mm', '--dot', '1mm', '--out', path.join(dir, 'bg.svg'), '--quiet');
     expect(r.code, r.err).toBe(0);
     expect(readdirSync(dir).sort()).toEqual([alive, 'bg.svg'].sort());
+  });
+});
+
+describe('a commit killed half-way', () => {
+  it('leaves a manifest in state "committing" that lists old and new files: refused without --force, one clean set with it', async () => {
+    const out = path.join(tmp, 'half');
+    mkdirSync(out);
+    writeFileSync(path.join(out, 'notes.txt'), 'mine');
+    expect((await cli('displacement', demo('reference.png'), demo('measurement.png'), '--out', out, '--threads', '1', '--quiet')).code).toBe(0);
+    // what a kill after step 2 looks like: an old file of the previous set still there, listed in the journal
+    const mf = path.join(out, '.rhofield-manifest.json');
+    const m = JSON.parse(readFileSync(mf, 'utf8'));
+    const old = Buffer.from('old density of the previous run');
+    writeFileSync(path.join(out, 'density_rho.npy'), old);
+    m.state = 'committing';
+    m.files.push({ name: 'density_rho.npy', bytes: old.length, sha256: createHash('sha256').update(old).digest('hex') });
+    writeFileSync(mf, JSON.stringify(m));
+    const r = await cli('displacement', demo('reference.png'), demo('measurement.png'), '--out', out, '--threads', '1');
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/already holds rhofield results .*an interrupted commit.*--force/);
+    const f = await cli('displacement', demo('reference.png'), demo('measurement.png'), '--out', out, '--threads', '1', '--force', '--quiet');
+    expect(f.code, f.err).toBe(0);
+    const after = JSON.parse(readFileSync(mf, 'utf8'));
+    expect(after.state).toBe('complete');
+    expect(existsSync(path.join(out, 'density_rho.npy'))).toBe(false);
+    expect(readFileSync(path.join(out, 'notes.txt'), 'utf8')).toBe('mine');
+    expect(readdirSync(out).sort()).toEqual(['.rhofield-manifest.json', 'notes.txt', ...after.files.map((x: { name: string }) => x.name)].sort());
   });
 });
