@@ -5,13 +5,14 @@
  * behind and earlier results unchanged. Real small tmpfs mounts when the tests run as root on Linux;
  * the error mapping itself is also checked with injected errors.
  */
-import { existsSync, mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
+import { spawnSync } from 'node:child_process';
+import { chmodSync, existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { cli } from '../cliHarness.js';
 import { OutputDir, storageError } from '../../packages/cli/src/outputs.js';
-import { LEFTOVER, ROOT, canMount, mountTmpfs, remount, sha256, tree, unmount } from './helpers.js';
+import { LEFTOVER, ROOT, binPath, canMount, mountTmpfs, remount, sha256, tree, unmount } from './helpers.js';
 
 const tmp = mkdtempSync(path.join(os.tmpdir(), 'rhofield-storage-'));
 const mounts: string[] = [];
@@ -93,5 +94,31 @@ describe('storage errors name the user\'s path', () => {
     oneLine(await cli('pattern', '--width', '50mm', '--height', '40mm', '--dot', '1mm', '--out', bg), 2, new RegExp(`--out ${bg} is on a read-only file system`));
     expect(readdirSync(out).sort()).toEqual(names);
     expect(existsSync(fresh)).toBe(false);
+  });
+
+  const asNobody = process.platform === 'linux' && process.getuid?.() === 0;
+  it.skipIf(!asNobody)('a folder without write permission (a process of user nobody, since root ignores permission bits): exit 2, one line naming --out', () => {
+    const base = mkdtempSync(path.join(os.tmpdir(), 'rhofield-perm-'));
+    try {
+      chmodSync(base, 0o755);
+      const locked = path.join(base, 'locked');
+      mkdirSync(locked);
+      writeFileSync(path.join(locked, 'notes.txt'), 'mine');
+      chmodSync(locked, 0o555);
+      for (const out of [locked, path.join(locked, 'new')]) {
+        const r = spawnSync(process.execPath, [binPath(), 'displacement', demo('reference.png'), demo('measurement.png'), '--out', out], {
+          cwd: ROOT,
+          encoding: 'utf8',
+          uid: 65534,
+          gid: 65534,
+          env: { ...process.env, HOME: base },
+          timeout: 120_000,
+        });
+        oneLine({ code: r.status ?? -1, err: r.stderr }, 2, new RegExp(`--out ${out} is not writable \\(permission denied\\); change its permissions or choose another --out`));
+      }
+      expect(readdirSync(locked)).toEqual(['notes.txt']);
+    } finally {
+      rmSync(base, { recursive: true, force: true });
+    }
   });
 });
