@@ -221,6 +221,28 @@ describe('--force keeps every file rhofield did not write (SHA-256 before and af
     expect(readdirSync(dir).filter((n) => LEFTOVER.test(n))).toEqual([]);
   });
 
+  it('view --out F inside a result folder: F joins the folder\'s list; replaced only with --force, even a file the user made', async () => {
+    const { dir, mine } = userFolder('named-in-results');
+    expect((await cli('density', ...pairArgs(dir), '--setup', path.join(dir, 'setup.json'), '--out', dir, '--threads', '1', '--quiet')).code).toBe(0);
+    const fig = path.join(dir, 'knife.png');
+    let r = await cli('view', 'knife-edge', dir, '--out', fig, '--quiet');
+    expect(r.code, r.err).toBe(0);
+    expect(manifestOf(dir).files.map((f) => f.name)).toEqual(expect.arrayContaining(['knife.png', 'knife.svg']));
+    expectConsistent(dir, mine);
+    r = await cli('view', 'knife-edge', dir, '--out', fig);
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/knife\.png already exists; pass --force/);
+    // a file the user made and then named: --force replaces it (the user asked for it by name)
+    writeFileSync(path.join(dir, 'poster.png'), 'old poster');
+    r = await cli('view', 'colour', dir, '--out', path.join(dir, 'poster.png'));
+    expect(r.code).toBe(2);
+    expect(readFileSync(path.join(dir, 'poster.png'), 'utf8')).toBe('old poster');
+    r = await cli('view', 'colour', dir, '--out', path.join(dir, 'poster.png'), '--force', '--quiet');
+    expect(r.code, r.err).toBe(0);
+    expect(readFileSync(path.join(dir, 'poster.png')).subarray(1, 4).toString()).toBe('PNG');
+    expectConsistent(dir, mine);
+  });
+
   it('a view file in a result folder that rhofield did not write is never replaced, even with --force', async () => {
     const { dir } = userFolder('viewclash');
     expect((await cli('density', ...pairArgs(dir), '--setup', path.join(dir, 'setup.json'), '--out', dir, '--threads', '1', '--quiet')).code).toBe(0);

@@ -416,6 +416,8 @@ export interface OutputDirOptions {
   expect?: readonly string[];
   /** The option that named the folder, for messages (default --out). */
   label?: string;
+  /** Names the user gave (view --out F): like a single named file, replaced with --force even if rhofield did not write it. */
+  named?: readonly string[];
 }
 
 /**
@@ -437,6 +439,7 @@ export class OutputDir implements Cleanable {
     private readonly label: string,
     /** First folder this run created (removed again on abort if empty), or undefined. */
     private readonly created: string | undefined,
+    private readonly named: ReadonlySet<string> = new Set(),
   ) {
     this.staging = path.join(target, `${STAGING_PREFIX}${this.tag}`);
   }
@@ -464,7 +467,7 @@ export class OutputDir implements Cleanable {
         throw new RhofieldError('usage', `${label} ${target} cannot be created (${(e as NodeJS.ErrnoException).code ?? (e as Error).message}); choose a writable path`);
       }
     }
-    const d = new OutputDir(abs, target, force, opts.mode ?? 'replace', opts.command ?? 'rhofield', label, created);
+    const d = new OutputDir(abs, target, force, opts.mode ?? 'replace', opts.command ?? 'rhofield', label, created, new Set(opts.named ?? []));
     try {
       await removeStale(abs);
       await removeLegacyPartials(abs);
@@ -490,13 +493,19 @@ export class OutputDir implements Cleanable {
   private checkName(name: string, owned: Map<string, ManifestEntry>): void {
     const f = path.join(this.target, name);
     let exists = false;
+    let isDir = false;
     try {
-      lstatSync(f); // a symbolic link (even a dangling one) is the user's too
+      isDir = lstatSync(f).isDirectory(); // a symbolic link (even a dangling one) is the user's too
       exists = true;
     } catch {
       exists = false;
     }
     if (!exists) return;
+    if (this.named.has(name)) {
+      if (isDir) throw new RhofieldError('usage', `${this.label} ${path.join(this.shown, name)} is a folder; give a file name`);
+      if (!this.force) throw new RhofieldError('usage', `${path.join(this.shown, name)} already exists; pass --force to replace it or choose another name`);
+      return;
+    }
     if (!owned.has(name)) throw foreignError(this.label, this.shown, name);
     if (!this.force && this.mode === 'add') {
       throw new RhofieldError('usage', `${path.join(this.shown, name)} already exists; pass --force to replace it or choose another name`);

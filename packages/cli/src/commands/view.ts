@@ -22,6 +22,7 @@ import {
   type Field,
 } from '@rhofield/core';
 import { EXIT_CODES_HELP, Log, OutputDir, parseNumOpt, writeOutputFiles, type GlobalOpts } from '../common.js';
+import { MANIFEST_NAME } from '../outputs.js';
 
 const KINDS = ['knife-edge', 'colour', 'shadowgraph', 'contour'] as const;
 type Kind = (typeof KINDS)[number];
@@ -117,10 +118,13 @@ async function runView(kindRaw: string, dir: string, o: ViewOpts): Promise<void>
   const fig = viewFigure(view, { xMm, yMm, axisUnit: haveM ? 'mm' : 'px', title, ...(widthMm !== undefined ? { widthMm } : {}), ...(dpi !== undefined ? { dpi } : {}) });
   const base = o.out ?? path.join(dir, `view_${kind}${kind === 'knife-edge' ? `_${angle}deg` : ''}.png`);
   const svgName = base.endsWith('.png') ? base.replace(/\.png$/, '.svg') : null;
-  if (o.out === undefined) {
-    // into the result folder: the figures join its list of files rhofield wrote (a foreign file of the same name is never replaced)
+  const named = o.out !== undefined;
+  const into = path.dirname(base);
+  if (!named || existsSync(path.join(into, MANIFEST_NAME))) {
+    // into a result folder: the figures join its list of files rhofield wrote (a file rhofield did not
+    // write is never replaced, unless the user named it with --out and passed --force)
     const names = [path.basename(base), ...(svgName ? [path.basename(svgName)] : [])];
-    const folder = await OutputDir.open(dir, !!o.force, { command: 'view', mode: 'add', expect: names, label: 'result folder' });
+    const folder = await OutputDir.open(into, !!o.force, { command: 'view', mode: 'add', expect: names, label: named ? '--out' : 'result folder', ...(named ? { named: names } : {}) });
     try {
       await folder.writeFile(names[0]!, await fig.png());
       if (svgName) await folder.writeFile(names[1]!, fig.svg);
