@@ -137,8 +137,9 @@ export function register(program: Command): void {
       `
 Outputs: displacement.csv (x_px,y_px,dx_px,dy_px,magnitude_px,peak_ratio,correlation,status), displacement.npy
 (float32 rows×cols×2, NaN where no value), displacement_*.png figures, result.json (settings, input
-SHA-256, version, timings). Window centres in image pixels (pixel centres at integer coordinates);
-dx right-positive, dy down-positive, measured minus reference.
+SHA-256, version, timings), .rhofield-manifest.json (the files rhofield wrote: --force replaces only
+those; other files in --out are never touched). Window centres in image pixels (pixel centres at
+integer coordinates); dx right-positive, dy down-positive, measured minus reference.
 
 Default schedule (--window 32 --passes 3):
 ${schedule}
