@@ -10,7 +10,8 @@
  * Writing a folder (see docs/outputs.md for what an interrupted run leaves):
  * 1. files are written into a hidden staging folder inside --out,
  *    `.rhofield-staging-<host>-<pid>-<random>`;
- * 2. commit: the manifest is rewritten with state "committing", listing the old and the new files
+ * 2. commit (holding the folder's `.rhofield-commit-lock`, so two processes never exchange sets at
+ *    once): the manifest is rewritten with state "committing", listing the old and the new files
  *    (so that every file of ours is accounted for at every instant), the staged files are renamed into
  *    place one by one, old files of ours that the new run did not write are removed, and the manifest
  *    is written last with state "complete" and only the new files;
@@ -245,7 +246,7 @@ async function takeLock(dir: string, tag: string, shownDir: string, label: strin
       await new Promise((r) => setTimeout(r, 50));
     }
   }
-  throw new RhofieldError('processing', `${label} ${shownDir} is being written by another rhofield process (${LOCK_NAME}); wait for it to finish or choose another ${label}`);
+  throw new RhofieldError('processing', `${label} ${shownDir} is being written by another rhofield process (${path.join(shownDir, LOCK_NAME)}: ${await fsp.readFile(lock, 'utf8').catch(() => '?')}); wait for it to finish, or delete that file if no rhofield runs there any more`);
 }
 
 // ---------------------------------------------------------------------------------------------------
