@@ -294,7 +294,7 @@ describe('the commit lock', () => {
   }, 60_000);
 });
 
-describe('batch --force keeps the frames and notes inside --out (real process)', () => {
+describe('batch --force and merge keep the frames and notes inside --out (real processes)', () => {
   it('frames, reference and a notes file in --out are byte-identical after a batch and a batch --force', async () => {
     const { writeSequence } = await import('../batch/synthFrames.js');
     const dir = path.join(tmp, 'batch');
@@ -310,5 +310,22 @@ describe('batch --force keeps the frames and notes inside --out (real process)',
     expect(snapshot(dir, mine)).toEqual(before);
     expect(tree(dir).filter((n) => LEFTOVER.test(n))).toEqual([]);
     expect(existsSync(path.join(dir, 'statistics/displacement_mean.npy'))).toBe(true);
-  }, 120_000);
+
+    // a sharded run into a folder that holds the frames, then merge: the user's files unchanged
+    const sharded = path.join(tmp, 'batch-shards');
+    const seq2 = await writeSequence(sharded, { size: 96, frames: 4, seed: 5 });
+    writeFileSync(path.join(sharded, 'notes.txt'), 'sharded\n');
+    const mine2 = readdirSync(sharded).sort();
+    const before2 = snapshot(sharded, mine2);
+    const a2 = ['batch', '--reference', seq2.reference, '--frames', seq2.pattern, '--out', sharded, '--window', '32', '--passes', '1', '--format', 'npy', '--workers', '1', '--quiet'];
+    for (const k of ['1/2', '2/2']) {
+      r = rhofield([...a2, '--shard', k]);
+      expect(r.code, r.stderr).toBe(0);
+    }
+    r = rhofield(['merge', sharded, '--force', '--quiet']);
+    expect(r.code, r.stderr).toBe(0);
+    expect(snapshot(sharded, mine2)).toEqual(before2);
+    expect(existsSync(path.join(sharded, 'statistics/displacement_mean.npy'))).toBe(true);
+    expect(tree(sharded).filter((n) => LEFTOVER.test(n))).toEqual([]);
+  }, 180_000);
 });
