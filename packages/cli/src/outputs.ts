@@ -80,7 +80,11 @@ function interruptedError(): RhofieldError {
 export function installSignalCleanup(): void {
   const onSignal = (sig: 'SIGINT' | 'SIGTERM'): void => {
     const code = sig === 'SIGINT' ? 130 : 143;
-    if (state.interrupted) return;
+    if (state.interrupted) {
+      // a second interrupt while a commit finishes: leave at once (the manifest still lists every file of ours)
+      process.stderr.write(`rhofield: interrupted again (${sig}); stopping now, rerun with --force to tidy the folder\n`);
+      process.exit(code);
+    }
     state.interrupted = code;
     const cleanAll = (): void => {
       for (const x of [...live]) {
