@@ -7,4 +7,6 @@ export { buildSchedule, describeSchedule } from './schedule.js';
 export { windowGrid } from './windowGrid.js';
 export { gaussianPeak3 } from './gaussianPeak3.js';
 export { normalizedMedianTest, replaceByNeighbourMedian } from './normalizedMedianTest.js';
-export { closeWorkers } from './workerPool.js';
+export { closeWorkers, createDisplacementEngine, DisplacementEngine } from './displacementEngine.js';
+export type { DisplacementEngineOptions } from './displacementEngine.js';
+export { availableCores, capThreads } from './capThreads.js';
