@@ -141,10 +141,10 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
     o.maskPath ? sha256File(o.maskPath) : Promise.resolve(null),
     o.setupPath ? sha256File(o.setupPath) : Promise.resolve(null),
   ]);
-  const magnitudes: number[] = [];
+  let maxMagnitude = -Infinity;
   for (let i = 0; i < disp.dxPx.data.length; i++) {
     const m = Math.hypot(disp.dxPx.data[i]!, disp.dyPx.data[i]!);
-    if (Number.isFinite(m)) magnitudes.push(m);
+    if (Number.isFinite(m) && m > maxMagnitude) maxMagnitude = m;
   }
   const summary: Record<string, unknown> = {
     ...provenance(),
@@ -158,7 +158,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
     grid: { cols: disp.grid.cols, rows: disp.grid.rows },
     displacement: {
       counts: disp.counts,
-      maxMagnitudePx: magnitudes.length ? Math.max(...magnitudes) : null,
+      maxMagnitudePx: maxMagnitude > -Infinity ? maxMagnitude : null,
       ...(disp.shakePx ? { shakeRemovedPx: disp.shakePx } : {}),
       passes: disp.passes.map((p) => ({ windowPx: p.windowPx, stepPx: p.stepPx, outliers: p.outliers, ms: p.ms })),
     },
@@ -177,7 +177,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
           },
         }
       : {}),
-    warnings: [...(density?.warnings ?? [])],
+    warnings: disp.warnings.concat(density?.warnings ?? []),
     timingsSeconds: timings,
   };
   await fsp.writeFile(path.join(outDir, 'result.json'), JSON.stringify(summary, null, 2) + '\n');

@@ -64,7 +64,7 @@ function parseFormats(raw: string | undefined): string[] {
   const list = raw.split(',').map((s) => s.trim().toLowerCase()).filter(Boolean).map((s) => (s === 'hdf5' ? 'h5' : s));
   for (const f of list) if (!FORMATS.includes(f)) throw invalidParameter('--format', `a comma list of ${FORMATS.join(', ')}`, raw);
   if (!list.includes('npy')) list.unshift('npy'); // the statistics read the .npy results
-  return [...new Set(list)];
+  return Array.from(new Set(list));
 }
 
 /** Build the job list and the settings from the options (shared by the run and --emit-job-script). */
@@ -197,7 +197,7 @@ export async function batchCommand(o: BatchOpts, executorFactory?: (workers: num
     const workers = parseIntOpt('--workers', o.workers, 1, 1024) ?? 1;
     if (o.force) log.warn('--force is not passed to the job array (tasks would delete each other\'s results); remove the folder before submitting if you want a fresh run');
     mkdirSync(path.join(outDir, 'logs'), { recursive: true });
-    const text = jobScript({ tasks, workersPerTask: workers, outDir, cwd: process.cwd(), command: [process.execPath, BIN, ...commandArgs(o, workers)] });
+    const text = jobScript({ tasks, workersPerTask: workers, outDir, cwd: process.cwd(), command: [process.execPath, BIN].concat(commandArgs(o, workers)) });
     await writeFileAtomic(o.emitJobScript, text);
     await fsp.chmod(o.emitJobScript, 0o755);
     log.info(`wrote ${o.emitJobScript}: a job array of ${tasks} tasks over ${jobs.length} pairs; submit it with sbatch, then run: rhofield merge ${o.out}`);

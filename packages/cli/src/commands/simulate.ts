@@ -62,7 +62,7 @@ function summary(r: SimulationResult, o: { setupFile: string; sizePx: number; se
       densityRmsRelative: j(e.densityRmsRelative),
     },
     plan: { ...r.plan },
-    ...(o.out ? { outDir: o.out, files: ['reference.png', 'measurement.png', ...(r.mask ? ['mask.png'] : []), 'result.json'] } : {}),
+    ...(o.out ? { outDir: o.out, files: ['reference.png', 'measurement.png'].concat(r.mask ? ['mask.png'] : [], ['result.json']) } : {}),
   };
 }
 
@@ -73,15 +73,15 @@ function table(r: SimulationResult, sizePx: number): string {
     ['peak displacement', n(e.peakDisplacementPlannedPx), n(e.peakDisplacementTruePx), n(e.peakDisplacementMeasuredPx), 'px'],
     ['peak |ρ − ρ_ref|', n(r.field === 'shock' ? NaN : Math.abs(r.plan.densityChange)), n(e.densityPeakTrue), n(e.densityPeakMeasured), 'kg/m³'],
   ];
-  const w = [0, 1, 2, 3, 4].map((k) => Math.max(...rows.map((x) => x[k]!.length)));
+  const w = [0, 1, 2, 3, 4].map((k) => rows.reduce((m, x) => Math.max(m, x[k]!.length), 0));
   const lines = [
     `simulate ${r.field}: ${sizePx} × ${sizePx} px crop, ${r.windowPx} px windows, dot images ${n(r.plan.dotImageDiameterPx, 3)} px, defocus blur ${n(r.plan.flowBlurPx, 3)} px in the flow` +
       (r.field === 'shock' ? '' : `, disturbance 2L = ${n(r.plan.disturbancePx, 3)} px = ${n(r.plan.disturbancePx / r.windowPx, 2)} windows`),
-    ...rows.map((x) => `${x[0].padEnd(w[0]!)}  ${x[1].padStart(w[1]!)}  ${x[2].padStart(w[2]!)}  ${x[3].padStart(w[3]!)}  ${x[4]}`),
+  ].concat(rows.map((x) => `${x[0].padEnd(w[0]!)}  ${x[1].padStart(w[1]!)}  ${x[2].padStart(w[2]!)}  ${x[3].padStart(w[3]!)}  ${x[4]}`), [
     `displacement error (RMS, per component)  ${n(e.displacementRmsPx)} px`,
     `density error (RMS, mean offset removed)  ${n(e.densityRms)} kg/m³ = ${n(100 * e.densityRmsRelative, 3)} % of the true peak`,
     'planned: the planner’s unblurred Gaussian model; true: the known field after the defocus blur, at the window centres; measured: by correlation and reconstruction.',
-  ];
+  ]);
   return lines.join('\n');
 }
 
