@@ -18,6 +18,7 @@ import {
   pixelMapping,
   reconstructDensity,
   writeFieldSet,
+  type DisplacementEngine,
   type FieldSetFormat,
   type Setup,
 } from '@rhofield/core';
@@ -55,8 +56,11 @@ export const DEFAULT_FORMATS = 'npy,csv,png';
 /** Called when the pipeline enters a stage; `fraction` (0–1) is roughly the share of the work done. */
 export type StageCallback = (stage: string, fraction: number) => void;
 
-/** Process one pair into `outDir` (existing and empty). Returns the summary written to result.json. */
-export async function processPair(job: PairJob, outDir: string, onStage: StageCallback = () => {}): Promise<Record<string, unknown>> {
+/**
+ * Process one pair into `outDir` (existing and empty). Returns the summary written to result.json.
+ * `engine`: the displacement engine to reuse (e.g. one per batch worker); default: measureDisplacement's.
+ */
+export async function processPair(job: PairJob, outDir: string, onStage: StageCallback = () => {}, engine?: DisplacementEngine): Promise<Record<string, unknown>> {
   const o = job.options;
   const formats: FieldSetFormat[] = parseFormats(o.formats ?? DEFAULT_FORMATS);
   const timings: Record<string, number> = {};
@@ -89,6 +93,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
       ...(o.flowFreeRegionPx ? { flowFreeRegionPx: o.flowFreeRegionPx } : {}),
       ...(o.threads !== undefined ? { threads: o.threads } : {}),
       ...(o.interpolation ? { interpolation: o.interpolation } : {}),
+      ...(engine ? { engine } : {}),
     }),
   );
 

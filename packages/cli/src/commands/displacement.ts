@@ -3,7 +3,7 @@
  * the single-pair commands. Both share the displacement options; density adds the setup.
  */
 import type { Command } from 'commander';
-import { describeSchedule, invalidParameter, loadSetup, RhofieldError } from '@rhofield/core';
+import { capThreads, describeSchedule, invalidParameter, loadSetup, RhofieldError } from '@rhofield/core';
 import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, requireFile, StageProgress, type GlobalOpts } from '../common.js';
 import { DEFAULT_FORMATS, processPair, type PairOptions } from '../pipeline.js';
 
@@ -82,6 +82,11 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
   requireFile('reference image', ref);
   requireFile('measurement image', meas);
   const options = pairOptionsFromCli(o);
+  if (options.threads !== undefined) {
+    const cap = capThreads(options.threads, '--threads');
+    if (cap.warning) log.warn(cap.warning);
+    options.threads = cap.threads;
+  }
   if (kind === 'density') {
     if (!o.setup) throw invalidParameter('--setup', 'a setup file (JSON, see README)', undefined);
     requireFile('setup file', o.setup);

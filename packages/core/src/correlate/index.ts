@@ -10,3 +10,5 @@ export { normalizedMedianTest, replaceByNeighbourMedian } from './normalizedMedi
 export { closeWorkers, createDisplacementEngine, DisplacementEngine } from './displacementEngine.js';
 export type { DisplacementEngineOptions } from './displacementEngine.js';
 export { availableCores, capThreads } from './capThreads.js';
+export type { MemoryEstimate, MemoryEstimateInput } from './estimateMemory.js';
+export { CLI_PROCESS_BYTES, DENSITY_BYTES_PER_VECTOR, OUTPUT_BYTES_PER_VECTOR, WORKER_THREAD_BYTES, estimateMemory } from './estimateMemory.js';
