@@ -10,6 +10,8 @@ import cliProgress from 'cli-progress';
 import {
   FIELD_SET_FORMATS,
   PAIRING_MODES,
+  CLI_PROCESS_BYTES,
+  estimateMemory,
   invalidParameter,
   loadSetup,
   pairFrames,
@@ -29,6 +31,7 @@ import { createPairPool, defaultWorkerCount } from '../batch/pool.js';
 import { probeImage } from '../batch/probeImage.js';
 import { runBatch, type BatchResult } from '../batch/runner.js';
 import type { PairExecutor } from '../batch/types.js';
+import { BATCH_WORKER_BYTES, checkMemory, imageHeaders, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
 
 export interface BatchOpts {
   setup?: string;
@@ -47,6 +50,7 @@ export interface BatchOpts {
   shard?: string;
   emitJobScript?: string;
   arrayTasks?: string;
+  maxMemory?: string;
   force?: boolean;
   json?: boolean;
   quiet?: boolean;
@@ -178,6 +182,7 @@ function commandArgs(o: BatchOpts, workers: number): string[] {
   add('--mask', o.mask);
   add('--flow-free', o.flowFree);
   add('--format', o.format);
+  add('--max-memory', o.maxMemory);
   a.push('--workers', String(workers));
   if (o.json) a.push('--json');
   if (o.quiet) a.push('--quiet');
@@ -207,6 +212,16 @@ export async function batchCommand(o: BatchOpts, executorFactory?: (workers: num
 
   const shard = resolveShard(o);
   const workers = workerCount(o);
+  // working set: the main process plus, per worker, its runtime and one pair (threads 1), estimated from
+  // the first pair's headers before any pixel is decoded
+  const budget = memoryBudget(o.maxMemory);
+  if (jobs[0]) {
+    const first = jobs[0];
+    const head = await imageHeaders(first.refPath, first.measPath);
+    const pair = estimateMemory({ ...head, windowPx: pairOptions['windowPx'] as number, stepPx: pairOptions['stepPx'] as number, passes: pairOptions['passes'] as number, threads: 1, masked: o.mask !== undefined, density: o.setup !== undefined, processBytes: 0 });
+    const total = CLI_PROCESS_BYTES + workers * (BATCH_WORKER_BYTES + pair.bytes);
+    checkMemory(`${workers} worker(s) on pairs of ${head.width}×${head.height} px (${first.refPath})`, pair, budget, total, workers > 1 ? 'fewer --workers' : null);
+  }
   log.debug(`${jobs.length} pairs (${mode} pairing, frames from a ${framesKind === 'stack' ? 'multi-page stack' : framesKind === 'file' ? 'single file' : `${framesKind} pattern`}); ${workers} worker(s)${shard ? `; shard ${shard.index}/${shard.count}` : ''}`);
 
   const showBar = !!process.stderr.isTTY && !o.quiet && !o.json && !o.verbose;
@@ -300,6 +315,7 @@ export function register(program: Command): void {
     .option('--flow-free <x0,y0,x1,y1>', 'region without flow (px) used to remove camera shake')
     .option('--format <list>', `result formats per pair, comma list of ${FORMATS.join(', ')} (default ${DEFAULTS.formats.join(',')}; npy is always written)`)
     .option('--workers <n>', 'worker threads, one pair each (default: one per core, or SLURM_CPUS_PER_TASK)')
+    .option('--max-memory <size>', MAX_MEMORY_HELP)
     .option('--shard <K/N>', 'process only the K-th of N contiguous parts of the frames (default from SLURM_ARRAY_TASK_* when set)')
     .option('--emit-job-script <file>', 'write a SLURM sbatch script running this batch as a job array, then exit')
     .option('--array-tasks <n>', 'number of job-array tasks for --emit-job-script (default 4)')

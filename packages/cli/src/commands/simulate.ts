@@ -9,6 +9,7 @@ import type { Command } from 'commander';
 import {
   SIMULATION_FIELD_KINDS,
   createSimulationEngines,
+  estimateMemory,
   invalidParameter,
   loadSetup,
   obliqueShockAngle,
@@ -19,6 +20,7 @@ import {
 } from '@rhofield/core';
 import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, provenance, requireFile, type GlobalOpts } from '../common.js';
 import { SAFETY_HELP } from './plan.js';
+import { checkMemory, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
 
 interface SimulateOpts extends GlobalOpts {
   setup: string;
@@ -31,6 +33,7 @@ interface SimulateOpts extends GlobalOpts {
   wedge?: string;
   out?: string;
   force?: boolean;
+  maxMemory?: string;
 }
 
 const n = (v: number, digits = 4): string => (Number.isFinite(v) ? (Math.abs(v) !== 0 && Math.abs(v) < 1e-3 ? v.toExponential(2) : v.toPrecision(digits)) : 'n/a');
@@ -119,6 +122,7 @@ export function register(program: Command): void {
     .option('--wedge <deg>', 'shock: wedge half-angle in degrees, below the detachment angle (default 10)')
     .option('--out <dir>', 'write reference.png, measurement.png (16-bit), mask.png (shock) and result.json to this folder')
     .option('--force', 'replace existing results in --out')
+    .option('--max-memory <size>', MAX_MEMORY_HELP)
     .option('--json', 'print the summary (as in result.json) on stdout')
     .option('--quiet', 'no table on stderr')
     .option('--verbose', 'more detail, stack traces on errors')
@@ -161,6 +165,11 @@ ${EXIT_CODES_HELP}`,
       requireFile('setup file', o.setup);
       const setup = loadSetup(o.setup);
       if (!setup.expected) throw invalidParameter(`${o.setup}: expected`, 'an object {densityChange | temperatureChange, lengthScale} (the planner needs it)', undefined);
+      // the working set of the rendered pair and its measurement (smallest window when not given: most
+      // vectors), plus the rendered fields (about eight Float32 images)
+      const est = estimateMemory({ width: sizePx, height: sizePx, windowPx: windowPx ?? 16, density: true, masked: field === 'shock' });
+      const budget = memoryBudget(o.maxMemory);
+      checkMemory(`--size ${sizePx}`, est, budget, est.bytes + 32 * sizePx * sizePx);
       // open the output folder first, so an existing folder is refused before the work
       const out = o.out !== undefined ? await OutputDir.open(o.out, !!o.force) : undefined;
       try {
