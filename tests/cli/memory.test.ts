@@ -114,7 +114,11 @@ describe('memory guard', () => {
     expect(r.code).toBe(2);
     const lines = r.err.trim().split('\n');
     expect(lines).toHaveLength(1);
-    expect(lines[0]).toMatch(/^rhofield: error: .*big-ref\.png and .*big-meas\.png \(16000×16000 px\): the estimated working set is [\d.]+ GiB .* above --max-memory 2GiB; crop the images.*raise --max-memory$/);
+    expect(lines[0]).toMatch(/^rhofield: error: .*big-ref\.png and .*big-meas\.png \(16000×16000 px\): the estimated working set is [\d.]+ GiB .* above --max-memory 2GiB; crop the images \(to about \d+×\d+ px at these settings\).*raise --max-memory$/);
+    // the crop it advises fits the budget
+    const side = Number(/to about (\d+)×/.exec(lines[0]!)![1]);
+    expect(estimateMemory({ width: side, height: side, bitDepth: 8 }).bytes).toBeLessThanOrEqual(2 * 2 ** 30);
+    expect(estimateMemory({ width: side + 400, height: side + 400, bitDepth: 8 }).bytes).toBeGreaterThan(2 * 2 ** 30);
     expect(r.peakBytes).toBeLessThan(300e6);
     expect(existsSync(out)).toBe(false);
     expect(readdirSync(dir).sort()).toEqual(before);
@@ -133,7 +137,7 @@ describe('memory guard', () => {
     // a budget below the process itself refuses even a small pair; the message names the option as typed
     const r = await cli('displacement', a, b, '--out', path.join(dir, 'small-out'), '--max-memory', '100MiB');
     expect(r.code).toBe(2);
-    expect(r.err).toMatch(/above --max-memory 100MiB/);
+    expect(r.err).toMatch(/--max-memory 100MiB is below the memory the program itself needs \(about [\d.]+ MiB\); raise --max-memory\n$/);
     expect(existsSync(path.join(dir, 'small-out'))).toBe(false);
     const help = spawnSync(process.execPath, [BIN, 'displacement', '--help'], { encoding: 'utf8' }).stdout;
     expect(help).toMatch(/--max-memory <size>/);

@@ -5,7 +5,7 @@
  * of this machine's memory (os.totalmem()).
  */
 import os from 'node:os';
-import { formatBytes, inputError, loadImageInfo, parseByteSize, type MemoryEstimate } from '@rhofield/core';
+import { formatBytes, inputError, loadImageInfo, parseByteSize, WORKER_THREAD_BYTES, type MemoryEstimate } from '@rhofield/core';
 
 /** Share of the machine's memory used as the default budget. */
 export const DEFAULT_MEMORY_SHARE = 0.5;
@@ -51,12 +51,25 @@ export async function imageHeaders(...files: string[]): Promise<{ width: number;
  * @param what e.g. `ref.png and meas.png (16000×16000 px)`.
  * @param e the estimate of one pair (for the advice). @param total the bytes to compare (default e.bytes).
  * @param parallel how to lower parallelism (`--threads 1`, `fewer --workers`), or null.
+ * @param size image size, for the crop that would fit (everything but the process scales with the area).
  */
-export function checkMemory(what: string, e: MemoryEstimate, budget: MemoryBudget, total = e.bytes, parallel: string | null = e.threads > 1 ? `--threads 1` : null): void {
+export function checkMemory(
+  what: string,
+  e: MemoryEstimate,
+  budget: MemoryBudget,
+  total = e.bytes,
+  parallel: string | null = e.threads > 1 ? `--threads 1` : null,
+  size?: { width: number; height: number },
+): void {
   if (total <= budget.bytes) return;
   const p = e.parts;
   const perVector = p.vectors + p.outputs + p.density;
-  const advice = ['crop the images'];
+  const fixed = p.process + Math.max(0, e.threads - 1) * WORKER_THREAD_BYTES;
+  if (budget.bytes <= fixed)
+    throw inputError(`${what}: ${budget.label} is below the memory the program itself needs (about ${formatBytes(fixed)}); raise --max-memory`);
+  // 3 % below the area ratio: the kernels' memory grows with the width alone
+  const f = 0.97 * Math.sqrt((budget.bytes - fixed) / (total - fixed));
+  const advice = [size ? `crop the images (to about ${Math.floor(f * size.width)}×${Math.floor(f * size.height)} px at these settings)` : 'crop the images'];
   if (perVector > 0.2 * (total - p.process)) advice.push('use a larger --step (fewer vectors)');
   if (parallel) advice.push(`use ${parallel}`);
   advice.push('or raise --max-memory');

@@ -110,7 +110,7 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
     masked: options.maskPath !== undefined,
     density: kind === 'density',
   });
-  checkMemory(`${ref} and ${meas} (${head.width}×${head.height} px)`, estimate, budget);
+  checkMemory(`${ref} and ${meas} (${head.width}×${head.height} px)`, estimate, budget, estimate.bytes, estimate.threads > 1 ? '--threads 1' : null, head);
   log.debug(`estimated working set ${(estimate.bytes / 2 ** 20).toFixed(0)} MiB (budget ${(budget.bytes / 2 ** 20).toFixed(0)} MiB)`);
   const out = await OutputDir.open(o.out, !!o.force);
   const progress = new StageProgress(o);
