@@ -3,7 +3,7 @@
  * the single-pair commands. Both share the displacement options; density adds the setup.
  */
 import type { Command } from 'commander';
-import { capThreads, describeSchedule, estimateMemory, invalidParameter, loadSetup, RhofieldError } from '@rhofield/core';
+import { capThreads, describeSchedule, estimateMemory, formatBytes, invalidParameter, loadSetup, RhofieldError } from '@rhofield/core';
 import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, requireFile, StageProgress, type GlobalOpts } from '../common.js';
 import { DEFAULT_FORMATS, processPair, type PairOptions } from '../pipeline.js';
 import { checkMemory, imageHeaders, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
@@ -90,14 +90,6 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
     if (cap.warning) log.warn(cap.warning);
     options.threads = cap.threads;
   }
-  if (kind === 'density') {
-    if (!o.setup) throw invalidParameter('--setup', 'a setup file (JSON, see README)', undefined);
-    requireFile('setup file', o.setup);
-    options.setup = loadSetup(o.setup);
-    options.setupPath = o.setup;
-  }
-  const refPage = parseIntOpt('--ref-page', o.refPage, 0);
-  const measPage = parseIntOpt('--meas-page', o.measPage, 0);
   // the working set from the headers, before any pixel is decoded or anything written
   const budget = memoryBudget(o.maxMemory);
   const head = await imageHeaders(ref, meas);
@@ -110,8 +102,16 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
     masked: options.maskPath !== undefined,
     density: kind === 'density',
   });
-  checkMemory(`${ref} and ${meas} (${head.width}×${head.height} px)`, estimate, budget, estimate.bytes, estimate.threads > 1 ? '--threads 1' : null, head);
-  log.debug(`estimated working set ${(estimate.bytes / 2 ** 20).toFixed(0)} MiB (budget ${(budget.bytes / 2 ** 20).toFixed(0)} MiB)`);
+  checkMemory(`${ref} and ${meas} (${head.width}×${head.height} px)`, estimate, budget, estimate.bytes, undefined, head);
+  log.debug(`estimated working set ${formatBytes(estimate.bytes)} (budget ${formatBytes(budget.bytes)})`);
+  if (kind === 'density') {
+    if (!o.setup) throw invalidParameter('--setup', 'a setup file (JSON, see README)', undefined);
+    requireFile('setup file', o.setup);
+    options.setup = loadSetup(o.setup);
+    options.setupPath = o.setup;
+  }
+  const refPage = parseIntOpt('--ref-page', o.refPage, 0);
+  const measPage = parseIntOpt('--meas-page', o.measPage, 0);
   const out = await OutputDir.open(o.out, !!o.force);
   const progress = new StageProgress(o);
   try {
