@@ -180,3 +180,23 @@ describe('large vector fields', () => {
     expect(e.bytes / r.peakBytes).toBeGreaterThan(1 / 1.5);
   }, 120_000);
 });
+
+describe('--threads above the cores', () => {
+  it('is capped at the cores with one warning on stderr, and the run uses the cores', async () => {
+    const cores = os.availableParallelism();
+    const asked = 64; // the most --threads accepts
+    expect(cores).toBeLessThan(asked); // (a machine with 64 cores or more cannot show the cap this way)
+    const { ref, meas } = synthPair({ width: 128, height: 128, diameterPx: 2.8, seed: 9, displacement: { kind: 'uniform', dx: 0.8, dy: 0.3 } });
+    const a = path.join(dir, 'ref-t.png');
+    const b = path.join(dir, 'meas-t.png');
+    await saveImage16(ref, a);
+    await saveImage16(meas, b);
+    const out = path.join(dir, 'out-t');
+    const r = await cli('displacement', a, b, '--threads', String(asked), '--out', out, '--quiet');
+    expect(r.code, r.err).toBe(0);
+    expect(r.err).toBe(`rhofield: warning: --threads ${asked} exceeds the ${cores} core${cores === 1 ? '' : 's'}; using ${cores}\n`);
+    const res = JSON.parse(readFileSync(path.join(out, 'result.json'), 'utf8')) as { settings: { threads: number }; warnings: string[] };
+    expect(res.settings.threads).toBe(cores);
+    expect(res.warnings).toEqual([]);
+  });
+});

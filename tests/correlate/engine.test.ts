@@ -7,7 +7,7 @@ import { spawnSync } from 'node:child_process';
 import os from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { afterAll, describe, expect, it } from 'vitest';
-import { availableCores, closeWorkers, createDisplacementEngine, measureDisplacement, synthPair, type DisplacementResult, type Field } from '@rhofield/core';
+import { availableCores, closeWorkers, createDisplacementEngine, measureDisplacement, synthPair, type DisplacementResult, type Field, type MaskField, type MeasureDisplacementOptions } from '@rhofield/core';
 
 afterAll(() => closeWorkers());
 
@@ -59,6 +59,22 @@ describe('concurrent measurements', () => {
         await Promise.all(engines.map((e) => e.dispose()));
       }
     });
+
+  it('the same holds with a mask, the B-spline interpolator and whole-plane refinement (threads 2, different options per pair)', async () => {
+    const mask: MaskField = { width: 192, height: 160, data: new Uint8Array(192 * 160).fill(1) };
+    for (let y = 60; y < 100; y++) for (let x = 70; x < 120; x++) mask.data[x + y * 192] = 0;
+    const opts: MeasureDisplacementOptions[] = [
+      { threads: 2, mask },
+      { threads: 2, interpolation: 'bspline3' },
+      { threads: 2, refine: 'fft', windowPx: 16 },
+      { threads: 1, mask, interpolation: 'bspline3', passes: 2 },
+    ];
+    const alone: DisplacementResult[] = [];
+    for (let i = 0; i < ps.length; i++) alone.push(await measureDisplacement(ps[i]!.ref, ps[i]!.meas, opts[i]!));
+    const together = await Promise.all(ps.map((p, i) => measureDisplacement(p.ref, p.meas, opts[i]!)));
+    for (let i = 0; i < ps.length; i++) expectSameBits(together[i]!, alone[i]!);
+    expect(alone[0]!.counts.masked).toBeGreaterThan(0);
+  });
 
   it('a disposed engine refuses further calls; a failing call does not block the queue', async () => {
     const p = ps[0]!;
