@@ -18,6 +18,7 @@ import {
   pixelMapping,
   reconstructDensity,
   writeFieldSet,
+  type DisplacementEngine,
   type FieldSetFormat,
   type Setup,
 } from '@rhofield/core';
@@ -55,8 +56,11 @@ export const DEFAULT_FORMATS = 'npy,csv,png';
 /** Called when the pipeline enters a stage; `fraction` (0–1) is roughly the share of the work done. */
 export type StageCallback = (stage: string, fraction: number) => void;
 
-/** Process one pair into `outDir` (existing and empty). Returns the summary written to result.json. */
-export async function processPair(job: PairJob, outDir: string, onStage: StageCallback = () => {}): Promise<Record<string, unknown>> {
+/**
+ * Process one pair into `outDir` (existing and empty). Returns the summary written to result.json.
+ * `engine`: the displacement engine to reuse (e.g. one per batch worker); default: measureDisplacement's.
+ */
+export async function processPair(job: PairJob, outDir: string, onStage: StageCallback = () => {}, engine?: DisplacementEngine): Promise<Record<string, unknown>> {
   const o = job.options;
   const formats: FieldSetFormat[] = parseFormats(o.formats ?? DEFAULT_FORMATS);
   const timings: Record<string, number> = {};
@@ -89,6 +93,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
       ...(o.flowFreeRegionPx ? { flowFreeRegionPx: o.flowFreeRegionPx } : {}),
       ...(o.threads !== undefined ? { threads: o.threads } : {}),
       ...(o.interpolation ? { interpolation: o.interpolation } : {}),
+      ...(engine ? { engine } : {}),
     }),
   );
 
@@ -141,10 +146,10 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
     o.maskPath ? sha256File(o.maskPath) : Promise.resolve(null),
     o.setupPath ? sha256File(o.setupPath) : Promise.resolve(null),
   ]);
-  const magnitudes: number[] = [];
+  let maxMagnitude = -Infinity;
   for (let i = 0; i < disp.dxPx.data.length; i++) {
     const m = Math.hypot(disp.dxPx.data[i]!, disp.dyPx.data[i]!);
-    if (Number.isFinite(m)) magnitudes.push(m);
+    if (Number.isFinite(m) && m > maxMagnitude) maxMagnitude = m;
   }
   const summary: Record<string, unknown> = {
     ...provenance(),
@@ -158,7 +163,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
     grid: { cols: disp.grid.cols, rows: disp.grid.rows },
     displacement: {
       counts: disp.counts,
-      maxMagnitudePx: magnitudes.length ? Math.max(...magnitudes) : null,
+      maxMagnitudePx: maxMagnitude > -Infinity ? maxMagnitude : null,
       ...(disp.shakePx ? { shakeRemovedPx: disp.shakePx } : {}),
       passes: disp.passes.map((p) => ({ windowPx: p.windowPx, stepPx: p.stepPx, outliers: p.outliers, ms: p.ms })),
     },
@@ -177,7 +182,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
           },
         }
       : {}),
-    warnings: [...(density?.warnings ?? [])],
+    warnings: disp.warnings.concat(density?.warnings ?? []),
     timingsSeconds: timings,
   };
   await fsp.writeFile(path.join(outDir, 'result.json'), JSON.stringify(summary, null, 2) + '\n');

@@ -177,14 +177,14 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
     const cut = name.startsWith('.') ? name.lastIndexOf('.partial-') : -1;
     if (cut > 0) {
       const id = name.slice(1, cut);
-      leftovers.set(id, [...(leftovers.get(id) ?? []), name]);
+      leftovers.set(id, (leftovers.get(id) ?? []).concat(name));
     }
   }
   const todo: PairJob[] = [];
   for (const j of mine) {
     if (existing.has(j.id) && existsSync(layout.pairRecord(dir, j.id))) continue;
     todo.push(j);
-    for (const name of [...(leftovers.get(j.id) ?? []), ...(existing.has(j.id) ? [j.id] : [])]) {
+    for (const name of (leftovers.get(j.id) ?? []).concat(existing.has(j.id) ? [j.id] : [])) {
       hooks.debug?.(`removing unfinished ${name}`);
       await fsp.rm(path.join(pairsDir, name), { recursive: true, force: true });
     }

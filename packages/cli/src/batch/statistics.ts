@@ -281,8 +281,8 @@ export async function mergePartials(dir: string, settingsHash: string): Promise<
   const names = existsSync(sdir) ? (await fsp.readdir(sdir)).filter((n) => /^\d+-of-\d+$/.test(n)) : [];
   if (names.length === 0) throw inputError(`${dir} has no shard results (shards/K-of-N); run the job array first, or run without --shard`);
   const counts = new Set(names.map((n) => Number(n.split('-of-')[1])));
-  if (counts.size > 1) throw inputError(`${sdir} holds shards of different splits (${[...counts].map((c) => `N=${c}`).join(', ')}); rerun the batch with --force and one split`);
-  const n = [...counts][0] as number;
+  if (counts.size > 1) throw inputError(`${sdir} holds shards of different splits (${Array.from(counts, (c) => `N=${c}`).join(', ')}); rerun the batch with --force and one split`);
+  const n = Array.from(counts)[0] as number;
   const infos: PartialInfo[] = [];
   const missing: number[] = [];
   for (let k = 1; k <= n; k++) {

@@ -10,6 +10,8 @@ import cliProgress from 'cli-progress';
 import {
   FIELD_SET_FORMATS,
   PAIRING_MODES,
+  CLI_PROCESS_BYTES,
+  estimateMemory,
   invalidParameter,
   loadSetup,
   pairFrames,
@@ -29,6 +31,7 @@ import { createPairPool, defaultWorkerCount } from '../batch/pool.js';
 import { probeImage } from '../batch/probeImage.js';
 import { runBatch, type BatchResult } from '../batch/runner.js';
 import type { PairExecutor } from '../batch/types.js';
+import { BATCH_WORKER_BYTES, checkMemory, imageHeaders, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
 
 export interface BatchOpts {
   setup?: string;
@@ -47,6 +50,7 @@ export interface BatchOpts {
   shard?: string;
   emitJobScript?: string;
   arrayTasks?: string;
+  maxMemory?: string;
   force?: boolean;
   json?: boolean;
   quiet?: boolean;
@@ -64,7 +68,7 @@ function parseFormats(raw: string | undefined): string[] {
   const list = raw.split(',').map((s) => s.trim().toLowerCase()).filter(Boolean).map((s) => (s === 'hdf5' ? 'h5' : s));
   for (const f of list) if (!FORMATS.includes(f)) throw invalidParameter('--format', `a comma list of ${FORMATS.join(', ')}`, raw);
   if (!list.includes('npy')) list.unshift('npy'); // the statistics read the .npy results
-  return [...new Set(list)];
+  return Array.from(new Set(list));
 }
 
 /** Build the job list and the settings from the options (shared by the run and --emit-job-script). */
@@ -178,6 +182,7 @@ function commandArgs(o: BatchOpts, workers: number): string[] {
   add('--mask', o.mask);
   add('--flow-free', o.flowFree);
   add('--format', o.format);
+  add('--max-memory', o.maxMemory);
   a.push('--workers', String(workers));
   if (o.json) a.push('--json');
   if (o.quiet) a.push('--quiet');
@@ -197,7 +202,7 @@ export async function batchCommand(o: BatchOpts, executorFactory?: (workers: num
     const workers = parseIntOpt('--workers', o.workers, 1, 1024) ?? 1;
     if (o.force) log.warn('--force is not passed to the job array (tasks would delete each other\'s results); remove the folder before submitting if you want a fresh run');
     mkdirSync(path.join(outDir, 'logs'), { recursive: true });
-    const text = jobScript({ tasks, workersPerTask: workers, outDir, cwd: process.cwd(), command: [process.execPath, BIN, ...commandArgs(o, workers)] });
+    const text = jobScript({ tasks, workersPerTask: workers, outDir, cwd: process.cwd(), command: [process.execPath, BIN].concat(commandArgs(o, workers)) });
     await writeOutputFiles([{ path: o.emitJobScript, data: text }], !!o.force, '--emit-job-script');
     await fsp.chmod(o.emitJobScript, 0o755);
     log.info(`wrote ${o.emitJobScript}: a job array of ${tasks} tasks over ${jobs.length} pairs; submit it with sbatch, then run: rhofield merge ${o.out}`);
@@ -207,6 +212,16 @@ export async function batchCommand(o: BatchOpts, executorFactory?: (workers: num
 
   const shard = resolveShard(o);
   const workers = workerCount(o);
+  // working set: the main process plus, per worker, its runtime and one pair (threads 1), estimated from
+  // the first pair's headers before any pixel is decoded
+  const budget = memoryBudget(o.maxMemory);
+  if (jobs[0]) {
+    const first = jobs[0];
+    const head = await imageHeaders(first.refPath, first.measPath);
+    const pair = estimateMemory({ ...head, windowPx: pairOptions['windowPx'] as number, stepPx: pairOptions['stepPx'] as number, passes: pairOptions['passes'] as number, threads: 1, masked: o.mask !== undefined, density: o.setup !== undefined, processBytes: 0 });
+    const total = CLI_PROCESS_BYTES + workers * (BATCH_WORKER_BYTES + pair.bytes);
+    checkMemory(`${workers} worker(s) on pairs of ${head.width}×${head.height} px (${first.refPath})`, pair, budget, total, workers > 1 ? 'fewer --workers' : null);
+  }
   log.debug(`${jobs.length} pairs (${mode} pairing, frames from a ${framesKind === 'stack' ? 'multi-page stack' : framesKind === 'file' ? 'single file' : `${framesKind} pattern`}); ${workers} worker(s)${shard ? `; shard ${shard.index}/${shard.count}` : ''}`);
 
   const showBar = !!process.stderr.isTTY && !o.quiet && !o.json && !o.verbose;
@@ -300,6 +315,7 @@ export function register(program: Command): void {
     .option('--flow-free <x0,y0,x1,y1>', 'region without flow (px) used to remove camera shake')
     .option('--format <list>', `result formats per pair, comma list of ${FORMATS.join(', ')} (default ${DEFAULTS.formats.join(',')}; npy is always written)`)
     .option('--workers <n>', 'worker threads, one pair each (default: one per core, or SLURM_CPUS_PER_TASK)')
+    .option('--max-memory <size>', MAX_MEMORY_HELP)
     .option('--shard <K/N>', 'process only the K-th of N contiguous parts of the frames (default from SLURM_ARRAY_TASK_* when set)')
     .option('--emit-job-script <file>', 'write a SLURM sbatch script running this batch as a job array, then exit')
     .option('--array-tasks <n>', 'number of job-array tasks for --emit-job-script (default 4)')

@@ -3,9 +3,10 @@
  * the single-pair commands. Both share the displacement options; density adds the setup.
  */
 import type { Command } from 'commander';
-import { describeSchedule, invalidParameter, loadSetup, RhofieldError } from '@rhofield/core';
+import { capThreads, describeSchedule, estimateMemory, formatBytes, invalidParameter, loadSetup, RhofieldError } from '@rhofield/core';
 import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, requireFile, StageProgress, type GlobalOpts } from '../common.js';
 import { DEFAULT_FORMATS, processPair, type PairOptions } from '../pipeline.js';
+import { checkMemory, imageHeaders, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
 
 interface PairCliOpts extends GlobalOpts {
   out: string;
@@ -22,6 +23,7 @@ interface PairCliOpts extends GlobalOpts {
   setup?: string;
   figureWidth?: string;
   dpi?: string;
+  maxMemory?: string;
 }
 
 const SAFETY = `
@@ -39,7 +41,8 @@ export function addDisplacementOptions(cmd: Command): Command {
     .option('--format <list>', 'output formats, any of npy,h5,vti,mat,csv,png,svg', DEFAULT_FORMATS)
     .option('--figure-width <mm>', 'print width of the figures in mm (with --dpi; default: 800 px wide)')
     .option('--dpi <n>', 'figure resolution for print, 72–1200 (default 96 with --figure-width)')
-    .option('--threads <n>', 'threads for correlation (default: all cores)')
+    .option('--threads <n>', 'threads for correlation (default: all cores for images of 1 Mpx or more, else 1; capped at the cores)')
+    .option('--max-memory <size>', MAX_MEMORY_HELP)
     .option('--ref-page <n>', 'page of a multi-page TIFF reference (0-based)')
     .option('--meas-page <n>', 'page of a multi-page TIFF measurement (0-based)')
     .option('--force', 'replace the results rhofield wrote in --out earlier (other files are never touched)')
@@ -82,6 +85,25 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
   requireFile('reference image', ref);
   requireFile('measurement image', meas);
   const options = pairOptionsFromCli(o);
+  if (options.threads !== undefined) {
+    const cap = capThreads(options.threads, '--threads');
+    if (cap.warning) log.warn(cap.warning);
+    options.threads = cap.threads;
+  }
+  // the working set from the headers, before any pixel is decoded or anything written
+  const budget = memoryBudget(o.maxMemory);
+  const head = await imageHeaders(ref, meas);
+  const estimate = estimateMemory({
+    ...head,
+    ...(options.windowPx !== undefined ? { windowPx: options.windowPx } : {}),
+    ...(options.stepPx !== undefined ? { stepPx: options.stepPx } : {}),
+    ...(options.passes !== undefined ? { passes: options.passes } : {}),
+    ...(options.threads !== undefined ? { threads: options.threads } : {}),
+    masked: options.maskPath !== undefined,
+    density: kind === 'density',
+  });
+  checkMemory(`${ref} and ${meas} (${head.width}×${head.height} px)`, estimate, budget, estimate.bytes, undefined, head);
+  log.debug(`estimated working set ${formatBytes(estimate.bytes)} (budget ${formatBytes(budget.bytes)})`);
   if (kind === 'density') {
     if (!o.setup) throw invalidParameter('--setup', 'a setup file (JSON, see README)', undefined);
     requireFile('setup file', o.setup);

@@ -9,6 +9,7 @@ import type { Command } from 'commander';
 import {
   SIMULATION_FIELD_KINDS,
   createSimulationEngines,
+  estimateMemory,
   invalidParameter,
   loadSetup,
   obliqueShockAngle,
@@ -19,6 +20,7 @@ import {
 } from '@rhofield/core';
 import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, provenance, requireFile, type GlobalOpts } from '../common.js';
 import { SAFETY_HELP } from './plan.js';
+import { checkMemory, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
 
 interface SimulateOpts extends GlobalOpts {
   setup: string;
@@ -31,6 +33,7 @@ interface SimulateOpts extends GlobalOpts {
   wedge?: string;
   out?: string;
   force?: boolean;
+  maxMemory?: string;
 }
 
 const n = (v: number, digits = 4): string => (Number.isFinite(v) ? (Math.abs(v) !== 0 && Math.abs(v) < 1e-3 ? v.toExponential(2) : v.toPrecision(digits)) : 'n/a');
@@ -62,7 +65,7 @@ function summary(r: SimulationResult, o: { setupFile: string; sizePx: number; se
       densityRmsRelative: j(e.densityRmsRelative),
     },
     plan: { ...r.plan },
-    ...(o.out ? { outDir: o.out, files: ['reference.png', 'measurement.png', ...(r.mask ? ['mask.png'] : []), 'result.json'] } : {}),
+    ...(o.out ? { outDir: o.out, files: ['reference.png', 'measurement.png'].concat(r.mask ? ['mask.png'] : [], ['result.json']) } : {}),
   };
 }
 
@@ -73,15 +76,15 @@ function table(r: SimulationResult, sizePx: number): string {
     ['peak displacement', n(e.peakDisplacementPlannedPx), n(e.peakDisplacementTruePx), n(e.peakDisplacementMeasuredPx), 'px'],
     ['peak |ρ − ρ_ref|', n(r.field === 'shock' ? NaN : Math.abs(r.plan.densityChange)), n(e.densityPeakTrue), n(e.densityPeakMeasured), 'kg/m³'],
   ];
-  const w = [0, 1, 2, 3, 4].map((k) => Math.max(...rows.map((x) => x[k]!.length)));
+  const w = [0, 1, 2, 3, 4].map((k) => rows.reduce((m, x) => Math.max(m, x[k]!.length), 0));
   const lines = [
     `simulate ${r.field}: ${sizePx} × ${sizePx} px crop, ${r.windowPx} px windows, dot images ${n(r.plan.dotImageDiameterPx, 3)} px, defocus blur ${n(r.plan.flowBlurPx, 3)} px in the flow` +
       (r.field === 'shock' ? '' : `, disturbance 2L = ${n(r.plan.disturbancePx, 3)} px = ${n(r.plan.disturbancePx / r.windowPx, 2)} windows`),
-    ...rows.map((x) => `${x[0].padEnd(w[0]!)}  ${x[1].padStart(w[1]!)}  ${x[2].padStart(w[2]!)}  ${x[3].padStart(w[3]!)}  ${x[4]}`),
+  ].concat(rows.map((x) => `${x[0].padEnd(w[0]!)}  ${x[1].padStart(w[1]!)}  ${x[2].padStart(w[2]!)}  ${x[3].padStart(w[3]!)}  ${x[4]}`), [
     `displacement error (RMS, per component)  ${n(e.displacementRmsPx)} px`,
     `density error (RMS, mean offset removed)  ${n(e.densityRms)} kg/m³ = ${n(100 * e.densityRmsRelative, 3)} % of the true peak`,
     'planned: the planner’s unblurred Gaussian model; true: the known field after the defocus blur, at the window centres; measured: by correlation and reconstruction.',
-  ];
+  ]);
   return lines.join('\n');
 }
 
@@ -119,6 +122,7 @@ export function register(program: Command): void {
     .option('--wedge <deg>', 'shock: wedge half-angle in degrees, below the detachment angle (default 10)')
     .option('--out <dir>', 'write reference.png, measurement.png (16-bit), mask.png (shock) and result.json to this folder')
     .option('--force', 'replace the results rhofield wrote in --out earlier (other files are never touched)')
+    .option('--max-memory <size>', MAX_MEMORY_HELP)
     .option('--json', 'print the summary (as in result.json) on stdout')
     .option('--quiet', 'no table on stderr')
     .option('--verbose', 'more detail, stack traces on errors')
@@ -161,6 +165,11 @@ ${EXIT_CODES_HELP}`,
       requireFile('setup file', o.setup);
       const setup = loadSetup(o.setup);
       if (!setup.expected) throw invalidParameter(`${o.setup}: expected`, 'an object {densityChange | temperatureChange, lengthScale} (the planner needs it)', undefined);
+      // the working set of the rendered pair and its measurement (smallest window when not given: most
+      // vectors), plus the rendered fields (about eight Float32 images)
+      const est = estimateMemory({ width: sizePx, height: sizePx, windowPx: windowPx ?? 16, density: true, masked: field === 'shock' });
+      const budget = memoryBudget(o.maxMemory);
+      checkMemory(`--size ${sizePx}`, est, budget, est.bytes + 32 * sizePx * sizePx);
       // open the output folder first, so an existing folder is refused before the work
       const out = o.out !== undefined ? await OutputDir.open(o.out, !!o.force, { command: 'simulate', expect: ['reference.png', 'measurement.png', 'result.json'] }) : undefined;
       try {

@@ -14,11 +14,18 @@ const Z = Math.sqrt(3) - 2;
 const GAIN = 6; // (1 − z)(1 − 1/z)
 const TOL_TERMS = Math.ceil(Math.log(1e-9) / Math.log(Math.abs(Z))); // ≈ 16
 
-let scratch = new Float64Array(0);
-function work(n: number): Float64Array {
-  if (scratch.length < n) scratch = new Float64Array(n);
-  return scratch;
+/** A growable scratch line of the prefilter (each engine workspace owns one; used within one call). */
+export class LineScratch {
+  private buf = new Float64Array(0);
+  /** At least `n` values (contents undefined). */
+  get(n: number): Float64Array {
+    if (this.buf.length < n) this.buf = new Float64Array(n);
+    return this.buf;
+  }
 }
+
+/** Scratch of callers that pass none (used synchronously, never across an await). */
+const DEFAULT_SCRATCH = new LineScratch();
 
 /** 1-D in-place prefilter of `c[0..n)` (Float64), mirror boundaries. */
 function prefilterLine(c: Float64Array, n: number): void {
@@ -36,8 +43,8 @@ function prefilterLine(c: Float64Array, n: number): void {
 }
 
 /** Prefilter rows y0..y1−1 of `src` along x into `dst` (both width × height). */
-export function prefilterRows(src: Float32Array, dst: Float32Array, width: number, y0: number, y1: number): void {
-  const c = work(width);
+export function prefilterRows(src: Float32Array, dst: Float32Array, width: number, y0: number, y1: number, scratch: LineScratch = DEFAULT_SCRATCH): void {
+  const c = scratch.get(width);
   for (let y = y0; y < y1; y++) {
     const o = y * width;
     for (let x = 0; x < width; x++) c[x] = src[o + x]!;
@@ -50,9 +57,9 @@ export function prefilterRows(src: Float32Array, dst: Float32Array, width: numbe
  * Prefilter columns x0..x1−1 of `buf` along y, in place. Columns are processed in blocks of 16 to keep
  * the memory access row-wise.
  */
-export function prefilterCols(buf: Float32Array, width: number, height: number, x0: number, x1: number): void {
+export function prefilterCols(buf: Float32Array, width: number, height: number, x0: number, x1: number, scratch: LineScratch = DEFAULT_SCRATCH): void {
   const B = 16;
-  const c = work(B * height);
+  const c = scratch.get(B * height);
   for (let xb = x0; xb < x1; xb += B) {
     const nb = Math.min(B, x1 - xb);
     for (let y = 0; y < height; y++) {

@@ -51,13 +51,14 @@ export class DirectWindowCorrelator {
   private res: Float64Array = new Float64Array(0);
   private generation = -1;
 
-  constructor(n: number) {
+  /** @param K SIMD kernels whose memory holds the windows (default: the thread's own; null: TypeScript only). */
+  constructor(n: number, K: SimdKernels | null = simdKernels()) {
     if (n % 8 !== 0) throw new Error(`DirectWindowCorrelator: window ${n} px is not a multiple of 8`);
     this.n = n;
     const m = n + 2 * BORDER;
     this.a = new Float64Array(n * n);
     this.b = new Float64Array(m * m);
-    this.K = simdKernels();
+    this.K = K;
     if (this.K) {
       const K = this.K;
       this.at = [K.alloc(n * n * 4), K.alloc(m * m * 4), K.alloc((6 + L * L) * 8)];

@@ -4,10 +4,10 @@
  * arrays and numbers, so posting it to a worker shares memory instead of copying it.
  * Internal to the correlate stage.
  */
-import { prefilterCols, prefilterRows, sampleBspline } from './bspline.js';
+import { LineScratch, prefilterCols, prefilterRows, sampleBspline } from './bspline.js';
 import { keysRow, sampleKeys } from './keysCubic.js';
 import { lanczos4Row, sampleLanczos4 } from './lanczos.js';
-import { simdKernels, type SimdKernels } from './simdKernels.js';
+import { createSimdKernels, type SimdKernels } from './simdKernels.js';
 import { DirectWindowCorrelator } from './directCorrelator.js';
 import { FftWindowCorrelator, type CorrelationOutputs } from './fftCorrelator.js';
 import { axisTaps, type GridAxis } from './predictor.js';
@@ -96,49 +96,76 @@ export function chunkCount(img: EngineImages, task: EngineTask): number {
   }
 }
 
-const correlators = new Map<number, FftWindowCorrelator>();
-function correlator(n: number): FftWindowCorrelator {
-  let c = correlators.get(n);
-  if (!c) correlators.set(n, (c = new FftWindowCorrelator(n)));
-  return c;
+/**
+ * The scratch of one thread of one engine: correlators per window size, the SIMD kernels' instance
+ * and memory, and small per-row arrays. The calling thread of each {@link DisplacementEngine} owns
+ * one, each worker thread (which belongs to one engine's pool) owns one; a chunk uses it from start
+ * to end without awaiting, so no two measurements ever write the same scratch.
+ */
+export class EngineWorkspace {
+  private readonly ffts = new Map<number, FftWindowCorrelator>();
+  private readonly directs = new Map<number, DirectWindowCorrelator>();
+  private kernels: SimdKernels | null | undefined;
+  readonly tapIdx = new Int32Array(4);
+  readonly tapW = new Float64Array(4);
+  readonly tapTmp = new Float64Array(4);
+  /** Per-row half predictor (x and y) of the deformation, px. */
+  rowHx = new Float64Array(0);
+  rowHy = new Float64Array(0);
+  readonly prefilter = new LineScratch();
+  /** Results of the second correlation of the discrete window offset (two windows). */
+  readonly second: CorrelationOutputs = { dx: new Float32Array(2), dy: new Float32Array(2), correlation: new Float32Array(2), peakRatio: new Float32Array(2) };
+  readonly offsets = new Int32Array(4);
+
+  /** This workspace's SIMD kernels (own instance and memory), or null (TypeScript kernels). */
+  simd(): SimdKernels | null {
+    if (this.kernels === undefined) this.kernels = createSimdKernels();
+    return this.kernels;
+  }
+
+  fft(n: number): FftWindowCorrelator {
+    let c = this.ffts.get(n);
+    if (!c) this.ffts.set(n, (c = new FftWindowCorrelator(n)));
+    return c;
+  }
+
+  direct(n: number): DirectWindowCorrelator {
+    let c = this.directs.get(n);
+    if (!c) this.directs.set(n, (c = new DirectWindowCorrelator(n, this.simd())));
+    return c;
+  }
+
+  /** Bytes of the SIMD kernels' memory (0 without them). */
+  get simdBytes(): number {
+    return this.kernels ? this.kernels.k.memory.buffer.byteLength : 0;
+  }
 }
 
-const directs = new Map<number, DirectWindowCorrelator>();
-function direct(n: number): DirectWindowCorrelator {
-  let c = directs.get(n);
-  if (!c) directs.set(n, (c = new DirectWindowCorrelator(n)));
-  return c;
-}
-
-const tapIdx = new Int32Array(4);
-const tapW = new Float64Array(4);
-const tapTmp = new Float64Array(4);
-/** Per-row half predictor (x and y) of the deformation, px. */
-let rowHx = new Float64Array(0);
-let rowHy = new Float64Array(0);
-
-/** Run chunk `k` of a task. */
-export function runChunk(img: EngineImages, task: EngineTask, k: number): void {
+/**
+ * Run chunk `k` of a task with the scratch of workspace `ws` (the engine passes its own; without one,
+ * a fresh workspace is made for this chunk alone — slower, for tests and direct use).
+ */
+export function runChunk(img: EngineImages, task: EngineTask, k: number, ws: EngineWorkspace = new EngineWorkspace()): void {
   const { width, height } = img;
   switch (task.op) {
     case 'prefilterRows': {
       const per = Math.ceil(height / CHUNK.prefilterRows);
       const second = k >= per;
       const y0 = (second ? k - per : k) * CHUNK.prefilterRows;
-      prefilterRows(second ? img.meas : img.ref, second ? img.coefMeas : img.coefRef, width, y0, Math.min(height, y0 + CHUNK.prefilterRows));
+      prefilterRows(second ? img.meas : img.ref, second ? img.coefMeas : img.coefRef, width, y0, Math.min(height, y0 + CHUNK.prefilterRows), ws.prefilter);
       return;
     }
     case 'prefilterCols': {
       const per = Math.ceil(width / CHUNK.prefilterCols);
       const second = k >= per;
       const x0 = (second ? k - per : k) * CHUNK.prefilterCols;
-      prefilterCols(second ? img.coefMeas : img.coefRef, width, height, x0, Math.min(width, x0 + CHUNK.prefilterCols));
+      prefilterCols(second ? img.coefMeas : img.coefRef, width, height, x0, Math.min(width, x0 + CHUNK.prefilterCols), ws.prefilter);
       return;
     }
     case 'deform': {
       const y0 = k * CHUNK.deform;
       const y1 = Math.min(height, y0 + CHUNK.deform);
-      deformRows(img, task, y0, y1);
+      deformRows(img, task, y0, y1, ws);
       return;
     }
     case 'bin': {
@@ -161,7 +188,7 @@ export function runChunk(img: EngineImages, task: EngineTask, k: number): void {
     case 'correlate': {
       const r0 = k * CHUNK.correlate;
       const r1 = Math.min(task.rows, r0 + CHUNK.correlate);
-      correlateRows(img, task, r0, r1);
+      correlateRows(img, task, r0, r1, ws);
       return;
     }
   }
@@ -172,22 +199,23 @@ export function runChunk(img: EngineImages, task: EngineTask, k: number): void {
  * the deformed reference is ref(x − p/2) and the deformed measurement meas(x + p/2), both sampled from
  * a high-order interpolator (Scarano 2002, Meas. Sci. Technol. 13:R1, central difference image correction).
  */
-function deformRows(img: EngineImages, t: DeformTask, y0: number, y1: number): void {
+function deformRows(img: EngineImages, t: DeformTask, y0: number, y1: number, ws: EngineWorkspace): void {
   if (t.interpolation !== 'bspline3') {
-    const K = simdKernels();
+    const K = ws.simd();
     if (K) {
-      deformRowsSimd(img, t, y0, y1, K);
+      deformRowsSimd(img, t, y0, y1, K, ws);
       return;
     }
   }
+  const { tapIdx, tapW, tapTmp } = ws;
   const { width, height, ref, meas, coefRef, coefMeas, defRef, defMeas, mask } = img;
   const { predX, predY } = t;
-  if (rowHx.length < width) {
-    rowHx = new Float64Array(width);
-    rowHy = new Float64Array(width);
+  if (ws.rowHx.length < width) {
+    ws.rowHx = new Float64Array(width);
+    ws.rowHy = new Float64Array(width);
   }
-  const hxs = rowHx;
-  const hys = rowHy;
+  const hxs = ws.rowHx;
+  const hys = ws.rowHy;
   for (let y = y0; y < y1; y++) {
     axisTaps(t.ay, y, tapIdx, tapW, 0, tapTmp);
     const r0 = tapIdx[0]! * width;
@@ -233,7 +261,8 @@ function deformRows(img: EngineImages, t: DeformTask, y0: number, y1: number): v
  * rows copied out; positions whose kernel leaves the image are evaluated by the TypeScript samplers
  * (border rules). Same results as the TypeScript path to single precision.
  */
-function deformRowsSimd(img: EngineImages, t: DeformTask, y0: number, y1: number, K: SimdKernels): void {
+function deformRowsSimd(img: EngineImages, t: DeformTask, y0: number, y1: number, K: SimdKernels, ws: EngineWorkspace): void {
+  const { tapIdx, tapW, tapTmp } = ws;
   const { width, height, ref, meas, defRef, defMeas, mask } = img;
   const { predX, predY } = t;
   const lanczos = t.interpolation === 'lanczos4';
@@ -317,23 +346,23 @@ function deformRowsSimd(img: EngineImages, t: DeformTask, y0: number, y1: number
     for (let q = y0 * width; q < y1 * width; q++) if (!mask[q]) defRef[q] = defMeas[q] = NaN;
 }
 
-function correlateRows(img: EngineImages, t: CorrelateTask, r0: number, r1: number): void {
+function correlateRows(img: EngineImages, t: CorrelateTask, r0: number, r1: number, ws: EngineWorkspace): void {
   const A = t.source === 'original' ? img.ref : t.source === 'binned' ? img.binRef : img.defRef;
   const B = t.source === 'original' ? img.meas : t.source === 'binned' ? img.binMeas : img.defMeas;
   const width = t.source === 'binned' ? img.width >> 1 : img.width;
   const height = t.source === 'binned' ? img.height >> 1 : img.height;
-  if (t.method === 'offset') correlateRowsOffset(A, B, width, height, t, r0, r1);
-  else correlateRowsPlain(A, B, width, height, t, r0, r1);
+  if (t.method === 'offset') correlateRowsOffset(A, B, width, height, t, r0, r1, ws);
+  else correlateRowsPlain(A, B, width, height, t, r0, r1, ws);
 }
 
 /** FFT (or lag-limited direct) correlation of equal windows at the same place in A and B. */
-function correlateRowsPlain(A: Float32Array, B: Float32Array, width: number, height: number, t: CorrelateTask, r0: number, r1: number): void {
-  const cor = correlator(t.windowPx);
-  const dir = t.method === 'direct' ? direct(t.windowPx) : null;
+function correlateRowsPlain(A: Float32Array, B: Float32Array, width: number, height: number, t: CorrelateTask, r0: number, r1: number, ws: EngineWorkspace): void {
+  const cor = ws.fft(t.windowPx);
+  const dir = t.method === 'direct' ? ws.direct(t.windowPx) : null;
   const { cols, out, active } = t;
   let pending = -1;
   // with the SIMD kernels, each row of windows is copied into their memory as one strip per image
-  const K = dir?.simd ? simdKernels() : null;
+  const K = dir?.simd ? ws.simd() : null;
   for (let r = r0; r < r1; r++) {
     const y0 = t.top + r * t.stepPx;
     let strip = -1;
@@ -367,9 +396,6 @@ function correlateRowsPlain(A: Float32Array, B: Float32Array, width: number, hei
   if (pending >= 0) cor.run(out, pending, -1);
 }
 
-const second: CorrelationOutputs = { dx: new Float32Array(2), dy: new Float32Array(2), correlation: new Float32Array(2), peakRatio: new Float32Array(2) };
-const offsets = new Int32Array(4);
-
 /**
  * Discrete window offset (J. Westerweel, D. Dabiri & M. Gharib, "The effect of a discrete window offset on
  * the accuracy of cross-correlation analysis of digital PIV recordings", Exp. Fluids 23:20–28, 1997;
@@ -379,9 +405,10 @@ const offsets = new Int32Array(4);
  * second correlation has no loss of pairs from the whole-pixel part of the displacement. Where the
  * second peak is not within 1 px of lag 0 the first result stands.
  */
-function correlateRowsOffset(A: Float32Array, B: Float32Array, width: number, height: number, t: CorrelateTask, r0: number, r1: number): void {
-  correlateRowsPlain(A, B, width, height, { ...t, method: 'fft' }, r0, r1);
-  const cor = correlator(t.windowPx);
+function correlateRowsOffset(A: Float32Array, B: Float32Array, width: number, height: number, t: CorrelateTask, r0: number, r1: number, ws: EngineWorkspace): void {
+  correlateRowsPlain(A, B, width, height, { ...t, method: 'fft' }, r0, r1, ws);
+  const cor = ws.fft(t.windowPx);
+  const { second, offsets } = ws;
   const { cols, out, active } = t;
   const slots: number[] = [];
   const flush = (): void => {

@@ -3,16 +3,17 @@
  * interrogation windows with symmetric window deformation, normalized median test, optional mask and
  * camera-shake removal. See {@link describeSchedule} for the passes.
  */
-import os from 'node:os';
 import { inputError, invalidParameter } from '../util/errors.js';
 import type { Field, MaskField } from '../util/field.js';
-import { CHUNK, chunkCount, runChunk, type CorrelateTask, type EngineImages, type EngineTask } from './engine.js';
+import { availableCores, capThreads } from './capThreads.js';
+import { releaseDefaultBuffers, withDefaultEngine, type DisplacementEngine } from './displacementEngine.js';
+import { CHUNK, chunkCount, runChunk, type CorrelateTask, type EngineImages, type EngineTask, type EngineWorkspace } from './engine.js';
 import { fillHoles, normalizedMedianTest, replaceByNeighbourMedian } from './normalizedMedianTest.js';
 import { predictorAt, predictorRows, type GridAxis } from './predictor.js';
 import { buildSchedule, type PassPlan } from './schedule.js';
 import { VectorStatus, type DisplacementField, type VectorGrid } from './types.js';
 import { windowGrid } from './windowGrid.js';
-import { enginePool } from './workerPool.js';
+import type { EnginePool } from './workerPool.js';
 
 /** Options of {@link measureDisplacement}. */
 export interface MeasureDisplacementOptions {
@@ -62,11 +63,19 @@ export interface MeasureDisplacementOptions {
    */
   flowFreeRegionPx?: readonly [number, number, number, number];
   /**
-   * Threads (calling thread + worker threads); 1 runs in-process. Default: the number of cores for
-   * images of 1 Mpx or more, else 1 (starting the workers costs about 0.6 s once per process, more than
-   * a small image takes; the pool is then kept for later calls).
+   * Threads (calling thread + worker threads); 1 runs in-process. Default: the engine's `threads`,
+   * else the number of cores for images of 1 Mpx or more, else 1 (starting the workers costs about
+   * 0.6 s per engine, more than a small image takes; an engine keeps them for its later calls). More
+   * threads than the machine's cores (`os.availableParallelism()`) are capped at the cores, with a
+   * warning in the result's `warnings`.
    */
   threads?: number;
+  /**
+   * The engine whose buffers and workers to use (see {@link createDisplacementEngine}); calls on one
+   * engine run one after the other. Without it, the call takes a default engine that no concurrent
+   * call uses (the idle one left by an earlier call, or a new one).
+   */
+  engine?: DisplacementEngine;
   /**
    * Image interpolator of the window deformation: `'lanczos4'` (default; 8×8 taps, lowest bias) or
    * `'bspline3'` (cubic B-spline with prefilter, 4×4 taps: about 3× the bias on 2.5–3 px dots). Used
@@ -105,6 +114,8 @@ export interface DisplacementResult extends DisplacementField {
   shakePx?: { dx: number; dy: number; vectors: number };
   /** Threads used. */
   threads: number;
+  /** Things the caller should know (e.g. threads capped at the machine's cores); empty when none. */
+  warnings: string[];
   /** Every setting used, defaults filled in (for provenance, e.g. result.json). */
   settings: DisplacementSettings;
   /** Wall times, ms: setup (copy, checks), prefilter (B-spline), passes, total. */
@@ -200,9 +211,10 @@ interface Resolved {
   interpolation: 'lanczos4' | 'bspline3';
   refine: 'direct' | 'fft';
   region: readonly [number, number, number, number] | undefined;
+  warnings: string[];
 }
 
-function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions): Resolved {
+function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions, defaultThreads: number | undefined): Resolved {
   if (ref.width !== meas.width || ref.height !== meas.height)
     throw inputError(`reference image is ${ref.width}×${ref.height} px but measurement image is ${meas.width}×${meas.height} px; both images must have the same size`);
   const windowPx = o.windowPx ?? 32;
@@ -220,8 +232,11 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions): Resolv
   const medianEpsilonPx = o.medianEpsilonPx ?? 0.1;
   if (typeof medianEpsilonPx !== 'number' || !(medianEpsilonPx >= 0) || !Number.isFinite(medianEpsilonPx))
     throw invalidParameter('medianEpsilonPx', 'a number ≥ 0 (px; 0.1 is usual)', o.medianEpsilonPx);
-  const threads = o.threads ?? (ref.width * ref.height >= 1_000_000 ? Math.max(1, os.availableParallelism?.() ?? os.cpus().length) : 1);
-  if (!Number.isInteger(threads) || threads < 1 || threads > 256) throw invalidParameter('threads', 'an integer from 1 to 256', o.threads);
+  const asked = o.threads ?? defaultThreads ?? (ref.width * ref.height >= 1_000_000 ? availableCores() : 1);
+  if (!Number.isInteger(asked) || asked < 1 || asked > 256) throw invalidParameter('threads', 'an integer from 1 to 256', o.threads);
+  const warnings: string[] = [];
+  const { threads, warning } = capThreads(asked, 'threads');
+  if (warning) warnings.push(warning);
   const mask = o.mask;
   if (mask !== undefined) {
     if (!mask || !(mask.data instanceof Uint8Array) || mask.data.length !== mask.width * mask.height)
@@ -251,33 +266,25 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions): Resolv
     throw invalidParameter('interpolation', "'lanczos4' or 'bspline3'", o.interpolation);
   const refine = o.refine ?? 'direct';
   if (refine !== 'direct' && refine !== 'fft') throw invalidParameter('refine', "'direct' or 'fft'", o.refine);
-  return { windowPx, stepPx, passes, medianThreshold, medianEpsilonPx, threads, mask, keepPeakRatio, keepCorrelation, interpolation, refine, region };
+  return { windowPx, stepPx, passes, medianThreshold, medianEpsilonPx, threads, mask, keepPeakRatio, keepCorrelation, interpolation, refine, region, warnings };
 }
 
-/** Buffers reused between calls of the same size (first writes to fresh memory are slow). */
-let cache: { width: number; height: number; shared: boolean; bufs: Float32Array[]; bins: Float32Array[]; mask: Uint8Array } | null = null;
-
-function buffers(width: number, height: number, shared: boolean): { bufs: Float32Array[]; bins: Float32Array[]; mask: Uint8Array } {
-  if (!cache || cache.width !== width || cache.height !== height || cache.shared !== shared) {
-    cache = null;
-    const n = width * height;
-    const make = (m = n): Float32Array => (shared ? new Float32Array(new SharedArrayBuffer(4 * m)) : new Float32Array(m));
-    const nb = (width >> 1) * (height >> 1);
-    cache = {
-      width,
-      height,
-      shared,
-      bufs: [make(), make(), make(), make(), make(), make()],
-      bins: [make(nb), make(nb)],
-      mask: shared ? new Uint8Array(new SharedArrayBuffer(n)) : new Uint8Array(n),
-    };
-  }
-  return cache;
+/** What a measurement works with: its engine's buffers, workspace and workers (see DisplacementEngine). */
+export interface MeasureResources {
+  /** The calling thread's scratch. */
+  workspace: EngineWorkspace;
+  /** Six full-size image buffers, two 2×2-binned ones and a mask buffer (SharedArrayBuffers if `shared`). */
+  buffers(width: number, height: number, shared: boolean): { bufs: Float32Array[]; bins: Float32Array[]; mask: Uint8Array };
+  /** A pool of `size` worker threads. */
+  pool(size: number): Promise<EnginePool>;
 }
 
-/** Release the buffers kept for the next call (they are otherwise reused while the size stays the same). */
+/**
+ * Drop the buffers that the idle default engine keeps for the next call of the same size (calls
+ * with an explicit engine: `engine.releaseBuffers()`).
+ */
 export function releaseDisplacementBuffers(): void {
-  cache = null;
+  releaseDefaultBuffers();
 }
 
 function sharedF32(n: number, shared: boolean): Float32Array {
@@ -340,18 +347,32 @@ function summedArea(mask: MaskField): Float64Array {
  * @example const d = await measureDisplacement(ref, meas, { windowPx: 32, passes: 3 });
  */
 export async function measureDisplacement(ref: Field, meas: Field, options: MeasureDisplacementOptions = {}): Promise<DisplacementResult> {
+  if (options === null || typeof options !== 'object') throw invalidParameter('options', 'an options object', options);
+  const { engine, ...rest } = options;
+  if (engine !== undefined) {
+    if (!engine || typeof (engine as Partial<DisplacementEngine>).measure !== 'function') throw invalidParameter('engine', 'a DisplacementEngine from createDisplacementEngine()', engine);
+    return engine.measure(ref, meas, rest);
+  }
+  return withDefaultEngine((e) => e.measure(ref, meas, rest));
+}
+
+/**
+ * The measurement itself, on the buffers, workspace and workers of `res` (internal: called by
+ * DisplacementEngine.measure, one call at a time per engine).
+ */
+export async function runMeasurement(ref: Field, meas: Field, options: MeasureDisplacementOptions, res: MeasureResources, defaultThreads: number | undefined): Promise<DisplacementResult> {
   const t0 = performance.now();
   checkField('ref', ref);
   checkField('meas', meas);
   if (options === null || typeof options !== 'object') throw invalidParameter('options', 'an options object', options);
-  const o = resolve(ref, meas, options);
+  const o = resolve(ref, meas, options, defaultThreads);
   const { width, height } = ref;
   const schedule = buildSchedule({ ...o, width, height });
   const shared = o.threads > 1;
   const deforming = schedule.some((p) => p.deform) || o.mask !== undefined;
 
   // images
-  const { bufs, bins, mask: maskBuf } = buffers(width, height, shared);
+  const { bufs, bins, mask: maskBuf } = res.buffers(width, height, shared);
   let refData = ref.data;
   let measData = meas.data;
   if (shared) {
@@ -374,11 +395,12 @@ export async function measureDisplacement(ref: Field, meas: Field, options: Meas
     binRef: bins[0]!,
     binMeas: bins[1]!,
   };
-  const pool = shared ? await enginePool(o.threads - 1) : null;
+  const pool = shared ? await res.pool(o.threads - 1) : null;
+  const ws = res.workspace;
   const stage = async (task: EngineTask): Promise<void> => {
-    if (pool) return pool.stage(img, task);
+    if (pool) return pool.stage(img, task, ws);
     const n = chunkCount(img, task);
-    for (let k = 0; k < n; k++) runChunk(img, task, k);
+    for (let k = 0; k < n; k++) runChunk(img, task, k, ws);
   };
   const sat = o.mask ? summedArea(o.mask) : null;
   const t1 = performance.now();
@@ -557,6 +579,7 @@ export async function measureDisplacement(ref: Field, meas: Field, options: Meas
     passes: reports,
     ...(shakePx ? { shakePx } : {}),
     threads: o.threads,
+    warnings: o.warnings,
     settings: {
       windowPx: o.windowPx,
       stepPx: o.stepPx,

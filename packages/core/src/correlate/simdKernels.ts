@@ -83,11 +83,12 @@ export class SimdKernels {
   }
 }
 
+/** The compiled module (read-only once set): compiled once per thread, instantiated per workspace. */
 let module: object | null | undefined;
+/** This thread's default instance (for direct use of the kernels; engines create their own). */
 let instance: SimdKernels | null = null;
 
-/** This thread's SIMD kernels, or null where unavailable or disabled (`RHOFIELD_KERNELS=js`). */
-export function simdKernels(): SimdKernels | null {
+function compiled(): object | null {
   if (module === undefined) {
     module = null;
     if (process.env['RHOFIELD_KERNELS'] !== 'js') {
@@ -98,6 +99,21 @@ export function simdKernels(): SimdKernels | null {
       }
     }
   }
-  if (module && !instance) instance = new SimdKernels(module);
+  return module;
+}
+
+/**
+ * A new kernel instance with its own memory (one per engine workspace, so two measurements never
+ * share kernel memory), or null where unavailable or disabled (`RHOFIELD_KERNELS=js`).
+ */
+export function createSimdKernels(): SimdKernels | null {
+  const m = compiled();
+  return m ? new SimdKernels(m) : null;
+}
+
+/** This thread's default SIMD kernels, or null where unavailable or disabled (`RHOFIELD_KERNELS=js`). */
+export function simdKernels(): SimdKernels | null {
+  const m = compiled();
+  if (m && !instance) instance = new SimdKernels(m);
   return instance;
 }

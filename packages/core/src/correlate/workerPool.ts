@@ -1,6 +1,7 @@
 /**
- * A pool of worker threads for the displacement engine (piscina), kept alive between calls. Piscina
- * unrefs idle workers, so the pool never keeps a process alive; {@link closeWorkers} ends them early.
+ * The worker threads of one {@link DisplacementEngine} (piscina). Each engine owns its pool; nothing
+ * here is shared between engines. Piscina unrefs idle workers, so an idle pool never keeps a process
+ * alive; `engine.dispose()` ends the workers early.
  *
  * Workers are TypeScript modules: they get the tsx loader through `execArgv`
  * (`['--import', import.meta.resolve('tsx')]`, TOOLCHAIN §6), which works under tsx, vitest and the
@@ -8,10 +9,11 @@
  */
 import { Piscina } from 'piscina';
 import { RhofieldError } from '../util/errors.js';
-import { chunkCount, runChunk, type EngineImages, type EngineTask } from './engine.js';
+import { chunkCount, runChunk, type EngineImages, type EngineTask, type EngineWorkspace } from './engine.js';
 import type { StageMessage } from './correlate.worker.js';
 
-class EnginePool {
+/** A pool of `size` worker threads for the stages of one engine. */
+export class EnginePool {
   readonly size: number;
   private readonly pool: Piscina;
 
@@ -31,14 +33,14 @@ class EnginePool {
    * Run all chunks of a task on the workers and the calling thread together (chunks are taken from a
    * shared counter, so a slow or still-starting worker simply takes fewer).
    */
-  async stage(img: EngineImages, task: EngineTask): Promise<void> {
+  async stage(img: EngineImages, task: EngineTask, ws: EngineWorkspace): Promise<void> {
     const n = chunkCount(img, task);
     const counter = new Int32Array(new SharedArrayBuffer(4));
     const msg: StageMessage = { img, task, counter, n };
     const done: Promise<unknown>[] = [];
     for (let i = 0; i < this.size; i++) done.push(this.pool.run(msg));
     let k: number;
-    while ((k = Atomics.add(counter, 0, 1)) < n) runChunk(img, task, k);
+    while ((k = Atomics.add(counter, 0, 1)) < n) runChunk(img, task, k, ws);
     try {
       await Promise.all(done);
     } catch (e) {
@@ -51,27 +53,3 @@ class EnginePool {
   }
 }
 
-let pool: EnginePool | null = null;
-
-/** The shared pool with `size` workers (created or resized on demand). */
-export async function enginePool(size: number): Promise<EnginePool> {
-  if (pool && pool.size !== size) {
-    const old = pool;
-    pool = null;
-    await old.close();
-  }
-  if (!pool) pool = new EnginePool(size);
-  return pool;
-}
-
-/**
- * End the displacement engine's worker threads (idle workers do not keep the process alive, so this
- * is needed only to free them early, e.g. at the end of a batch or in tests).
- */
-export async function closeWorkers(): Promise<void> {
-  const p = pool;
-  pool = null;
-  if (p) await p.close();
-}
-
-export type { EnginePool };

@@ -56,7 +56,7 @@ export async function writeHdf5(path: string, set: FieldSet): Promise<void> {
       for (const c of set.categories) {
         const ds = cg.create_dataset({ name: c.name, data: c.codes, shape: [rows, cols], dtype: '<B' });
         ds.create_attribute('description', c.description);
-        ds.create_attribute('names', [...c.names]);
+        ds.create_attribute('names', Array.from(c.names));
       }
     }
   } catch (e) {

@@ -75,8 +75,7 @@ function struct(name: string, fields: readonly [string, string][]): Buffer {
     element(miINT8, Buffer.from(name, 'ascii')),
     element(miINT32, bytesOf(Int32Array.of(32))),
     element(miINT8, names),
-    ...fields.map(([, v]) => charArray('', v)),
-  ]);
+  ].concat(fields.map(([, v]) => charArray('', v))));
   return element(miMATRIX, body);
 }
 

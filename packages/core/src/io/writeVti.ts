@@ -91,9 +91,10 @@ export function fieldSetToVti(set: FieldSet): string {
   const notes = [
     `rhofield field set${set.title ? ': ' + set.title : ''}`,
     `coordinates in ${metres ? 'metres, y up' : 'pixels, y = -y_px'}; rows ordered bottom to top`,
-    ...set.fields.map((f) => `${columnName(f.name, f.units)}: ${f.description} [${f.units}]`),
-    ...(set.categories ?? []).map((c) => `${c.name}: ${c.description}; codes ${c.names.map((s, i) => `${i}=${s}`).join(', ')}`),
-  ].map((s) => s.replace(/--/g, '- -'));
+  ].concat(
+    set.fields.map((f) => `${columnName(f.name, f.units)}: ${f.description} [${f.units}]`),
+    (set.categories ?? []).map((c) => `${c.name}: ${c.description}; codes ${c.names.map((s, i) => `${i}=${s}`).join(', ')}`),
+  ).map((s) => s.replace(/--/g, '- -'));
   return [
     '<?xml version="1.0"?>',
     `<!--\n${notes.join('\n')}\n-->`,
@@ -101,7 +102,7 @@ export function fieldSetToVti(set: FieldSet): string {
     `  <ImageData WholeExtent="${ext}" Origin="${num(xs[0]!)} ${num(originY)} 0" Spacing="${num(sx)} ${num(Math.abs(sy))} 1">`,
     `    <Piece Extent="${ext}">`,
     `      <PointData${first ? ` Scalars="${columnName(first.name, first.units)}"` : ''}>`,
-    ...arrays,
+  ].concat(arrays, [
     '      </PointData>',
     '      <CellData>',
     '      </CellData>',
@@ -109,7 +110,7 @@ export function fieldSetToVti(set: FieldSet): string {
     '  </ImageData>',
     '</VTKFile>',
     '',
-  ].join('\n');
+  ]).join('\n');
 }
 
 /** Write a field set as `.vti` (see {@link fieldSetToVti}). */

@@ -37,9 +37,9 @@ export function formatPlan(pl: SetupPlan): string {
     ['first-pass window', String(pl.firstWindowPx), 'px', '≥ 4 × max displacement (Keane & Adrian)'],
     ['disturbance 2L', fmt(pl.disturbancePx), 'px', `${fmt(pl.windowsAcrossDisturbance, 2)} windows`],
   ];
-  const w0 = Math.max(...rows.map((r) => r[0].length));
-  const w1 = Math.max(...rows.map((r) => r[1].length));
-  const w2 = Math.max(...rows.map((r) => r[2].length));
+  const w0 = rows.reduce((m, r) => Math.max(m, r[0].length), 0);
+  const w1 = rows.reduce((m, r) => Math.max(m, r[1].length), 0);
+  const w2 = rows.reduce((m, r) => Math.max(m, r[2].length), 0);
   const lines = rows.map((r) => `${r[0].padEnd(w0)}  ${r[1].padStart(w1)} ${r[2].padEnd(w2)}  ${r[3]}`);
   lines.push('', `model: ${pl.model}`, `verdict: ${pl.verdict}`, `advice: ${pl.advice}`);
   for (const n of pl.notes) lines.push(`note: ${n}`);

@@ -38,7 +38,7 @@ function issueToError(issue: Issue, input: unknown, source: string): RhofieldErr
     const key = issue.keys[0] ?? '';
     const parent = issue.path.length ? keyPath(issue.path) : 'the top level';
     return described(
-      `${source}: ${issue.path.length ? keyPath([...issue.path, key]) : key}`,
+      `${source}: ${issue.path.length ? keyPath(issue.path.concat(key)) : key}`,
       `only known keys in ${parent}`,
       `the unknown key ${JSON.stringify(key)}`,
       'remove it or check its spelling (keys are case-sensitive)',
@@ -50,7 +50,7 @@ function issueToError(issue: Issue, input: unknown, source: string): RhofieldErr
     const best = branches.find((b) => b.some((i) => i.code !== 'invalid_type' || i.path.length > 0));
     if (best && best[0]) {
       const sub = best[0];
-      if (sub.code === 'unrecognized_keys' || sub.path.length > 0) return issueToError({ ...sub, path: [...issue.path, ...sub.path] } as Issue, input, source);
+      if (sub.code === 'unrecognized_keys' || sub.path.length > 0) return issueToError({ ...sub, path: issue.path.concat(sub.path) } as Issue, input, source);
     }
   }
   if (issue.code === 'invalid_key') {

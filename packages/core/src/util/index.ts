@@ -5,3 +5,4 @@ export { RhofieldError, invalidParameter, inputError } from './errors.js';
 export type { Rng } from './rng.js';
 export { createRng } from './rng.js';
 export { VERSION } from './version.js';
+export { formatBytes, parseByteSize } from './byteSize.js';
