@@ -22,6 +22,7 @@ interface PairCliOpts extends GlobalOpts {
   setup?: string;
   figureWidth?: string;
   dpi?: string;
+  acceptMismatch?: boolean;
 }
 
 const SAFETY = `
@@ -43,6 +44,7 @@ export function addDisplacementOptions(cmd: Command): Command {
     .option('--ref-page <n>', 'page of a multi-page TIFF reference (0-based)')
     .option('--meas-page <n>', 'page of a multi-page TIFF measurement (0-based)')
     .option('--force', 'replace existing results in --out')
+    .option('--accept-mismatch', 'keep the result even when the two images do not show the same background (refused by default: fewer than 10 % of vectors with a correlation peak ≥ 0.5 and ≥ 25 % flagged by the median test)')
     .option('--json', 'print a machine summary (result.json) on stdout')
     .option('--quiet', 'no progress messages (a progress bar appears only on a terminal, after ~1 s)')
     .option('--verbose', 'more messages, stack traces on errors');
@@ -74,6 +76,7 @@ export function pairOptionsFromCli(o: PairCliOpts): PairOptions {
     ...(flowFreeRegionPx ? { flowFreeRegionPx } : {}),
     formats: o.format ?? DEFAULT_FORMATS,
     ...(threads !== undefined ? { threads } : {}),
+    ...(o.acceptMismatch ? { acceptMismatch: true } : {}),
   };
 }
 
@@ -93,11 +96,15 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
   const out = await OutputDir.open(o.out, !!o.force);
   const progress = new StageProgress(o);
   try {
-    log.info(`rhofield ${kind}: ${ref} → ${meas}`);
+    // the banner once the inputs (images, mask, the pair's match) have passed their checks
+    let banner = false;
     const summary = await processPair(
       { refPath: ref, measPath: meas, ...(refPage !== undefined ? { refPage } : {}), ...(measPage !== undefined ? { measPage } : {}), options },
       out.staging,
-      (stage, fraction) => progress.stage(stage, fraction),
+      (stage, fraction) => {
+        if (!banner && stage.startsWith('writing')) (banner = true), log.info(`rhofield ${kind}: ${ref} → ${meas}`);
+        progress.stage(stage, fraction);
+      },
     );
     progress.stage('moving results into place', 0.99);
     await out.commit();

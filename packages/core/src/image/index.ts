@@ -3,3 +3,4 @@ export type { ImageFormat, ImageInfo, LoadedImage, LoadImageOptions } from './lo
 export { loadMask } from './loadMask.js';
 export type { LoadMaskOptions } from './loadMask.js';
 export { saveImage16, saveImage8, saveImageStack16 } from './saveImage.js';
+export { checkImageIntegrity } from './checkIntegrity.js';

@@ -15,11 +15,14 @@
  * - Accepted formats: PNG, TIFF, JPEG. Anything else sharp can read (WebP, GIF, …) is rejected so
  *   the counts are always those of a camera-style greyscale format.
  * - Pages are 0-based.
+ * - Before decoding, {@link checkImageIntegrity} verifies PNG chunk checksums and that every TIFF
+ *   strip or tile lies inside the file: the decoder accepts both kinds of damage silently.
  */
 import { stat } from 'node:fs/promises';
 import sharp from 'sharp';
 import type { Metadata } from 'sharp';
-import { inputError } from '../util/errors.js';
+import { inputError, RhofieldError } from '../util/errors.js';
+import { checkImageIntegrity } from './checkIntegrity.js';
 import type { Field } from '../util/field.js';
 
 /** Image file formats the loader accepts. */
@@ -60,7 +63,7 @@ function firstLine(e: unknown): string {
   return String((e as Error)?.message ?? e).split('\n')[0]!.trim();
 }
 
-async function checkFile(path: string): Promise<void> {
+async function checkFile(path: string): Promise<number> {
   let size: number;
   try {
     const s = await stat(path);
@@ -71,6 +74,7 @@ async function checkFile(path: string): Promise<void> {
     throw inputError(`${path} does not exist; check the path`);
   }
   if (size === 0) throw inputError(`${path} is empty (0 bytes); re-export or copy the image again`);
+  return size;
 }
 
 /**
@@ -83,6 +87,10 @@ async function checkFile(path: string): Promise<void> {
  */
 export async function loadImageInfo(path: string): Promise<ImageInfo> {
   await checkFile(path);
+  return headerInfo(path);
+}
+
+async function headerInfo(path: string): Promise<ImageInfo> {
   let m: Metadata;
   try {
     m = await sharp(path).metadata();
@@ -114,12 +122,19 @@ export async function loadImageInfo(path: string): Promise<ImageInfo> {
  * @param path image file: 8/16-bit PNG, 8/16-bit TIFF (multi-page allowed), JPEG; colour → luminance.
  * @param options `page`: 0-based page of a multi-page TIFF (default 0).
  * @returns the grey {@link Field} (0–255 or 0–65535) with width, height, bitDepth, pages, format.
- * @throws RhofieldError (input), one line naming the file and the fix: missing, empty, truncated or
- *   unreadable file; unsupported format; bit depth other than 8/16; page out of range.
+ * @throws RhofieldError (input), one line naming the file and the fix: missing, empty, truncated,
+ *   damaged (PNG checksum, TIFF strip past the end) or unreadable file; unsupported format; bit depth other than 8/16; page out of range.
  * @example const { field, bitDepth } = await loadImage('ref.tif', { page: 3 });
  */
 export async function loadImage(path: string, options: LoadImageOptions = {}): Promise<LoadedImage> {
-  const info = await loadImageInfo(path);
+  const size = await checkFile(path);
+  try {
+    await checkImageIntegrity(path, size);
+  } catch (e) {
+    if (e instanceof RhofieldError) throw e;
+    throw inputError(`${path} could not be read (${firstLine(e)}); check the file and its permissions`);
+  }
+  const info = await headerInfo(path);
   const page = options.page ?? 0;
   if (!Number.isInteger(page) || page < 0 || page >= info.pages) {
     throw inputError(
