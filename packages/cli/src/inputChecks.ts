@@ -3,7 +3,7 @@
  * that leaves (almost) nothing, a pair whose two images do not show the same background. Kept apart
  * from pipeline.ts so that the pipeline only calls them.
  */
-import { assessMaskCoverage, assessPairMatch, inputError, MIN_UNMASKED_SHARE, setupWarnings, type DisplacementResult, type Field, type Setup } from '@rhofield/core';
+import { assessMaskCoverage, assessPairMatch, inputError, MIN_UNMASKED_SHARE, RhofieldError, setupWarnings, type DisplacementResult, type Field, type Setup } from '@rhofield/core';
 
 /** The option that keeps the result of a pair the mismatch check refuses. */
 export const ACCEPT_MISMATCH_OPTION = '--accept-mismatch';
@@ -55,4 +55,14 @@ export function checkMeasuredPair(
   }
   if (opts.setup) warnings.push(...setupWarnings(opts.setup, files.setupPath ?? 'setup', { width: opts.width, height: opts.height }));
   return warnings;
+}
+
+/**
+ * Name the setup file in a library error about setup keys ("for camera.sensorPx" → "for FILE:
+ * camera.sensorPx"; other usage errors about the setup get "FILE: " in front). Other errors pass.
+ */
+export function withSetupFile(e: unknown, file: string): unknown {
+  if (!(e instanceof RhofieldError) || e.kind !== 'usage' || e.message.includes(file)) return e;
+  const keyed = e.message.replace(/ for ((?:camera|geometry|medium|flow|expected)\b[\w.[\]]*|lensToBackground) but received /, (_m, k: string) => ` for ${file}: ${k === 'lensToBackground' ? 'geometry.lensToBackground' : k} but received `);
+  return new RhofieldError(e.kind, keyed !== e.message ? keyed : `${file}: ${e.message}`);
 }
