@@ -22,7 +22,7 @@ import {
   type Setup,
 } from '@rhofield/core';
 import { provenance, sha256File } from './common.js';
-import { checkLoadedPair, checkMeasuredPair } from './inputChecks.js';
+import { checkLoadedPair, checkMeasuredPair, withSetupFile } from './inputChecks.js';
 
 /** Options of one pair (JSON-able: it crosses to batch workers). */
 export interface PairOptions {
@@ -131,7 +131,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
   let density: ReturnType<typeof reconstructDensity> | null = null;
   if (setup) {
     onStage('reconstructing density', 0.88);
-    density = await t('reconstruct', () => reconstructDensity(disp, setup));
+    density = await t('reconstruct', () => reconstructDensity(disp, setup)).catch((e: unknown) => Promise.reject(withSetupFile(e, o.setupPath ?? 'setup')));
     onStage('writing density files', 0.92);
     await t('write_density', async () => {
       const set = densityFieldSet(density!, { xPx: disp.grid.xPx, yPx: disp.grid.yPx }, { settings });

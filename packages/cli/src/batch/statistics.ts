@@ -336,7 +336,7 @@ export async function mergePartials(dir: string, settingsHash: string): Promise<
       try {
         a = await readNpy(f);
       } catch (e) {
-        throw inputError(`${f} is missing or damaged (${String((e as Error).message).split('\n')[0]}); rerun shard ${p.shard.index}/${n} (--shard ${p.shard.index}/${n}), then merge`);
+        throw inputError(`${f} is missing or damaged (${(e as NodeJS.ErrnoException).code === 'ENOENT' ? 'no such file' : 'not a readable .npy array'}); rerun shard ${p.shard.index}/${n} (--shard ${p.shard.index}/${n}), then merge`);
       }
       if (!(a.data instanceof Float64Array) || a.data.length !== 3 * len) {
         throw inputError(`${f} holds ${a.data.length} values, expected ${3 * len} (3×${p.rows}×${p.cols}); rerun shard ${p.shard.index}/${n}, then merge`);

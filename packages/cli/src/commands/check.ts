@@ -5,7 +5,7 @@
  * usage/input errors.
  */
 import type { Command } from 'commander';
-import { diagnoseImage, diagnosePair, invalidParameter, loadImage, measureDisplacement, type Field, type Finding } from '@rhofield/core';
+import { diagnoseImage, diagnosePair, inputError, invalidParameter, loadImage, measureDisplacement, type Field, type Finding } from '@rhofield/core';
 import { EXIT, EXIT_CODES_HELP, Log, parseIntOpt, parseNumOpt, requireFile } from '../common.js';
 
 interface CheckOpts {
@@ -60,6 +60,9 @@ export function register(program: Command): void {
         log.json({ command: 'check', referenceFile: ref, dotImageDiameterPx: r.dotDiameterPx, ...r });
       } else {
         const b = await loadGrey(meas);
+        if (a.width !== b.width || a.height !== b.height) {
+          throw inputError(`images differ in size: reference ${ref} is ${a.width}×${a.height}, measurement ${meas} is ${b.width}×${b.height}; check a pair from the same camera and crop`);
+        }
         // a single plain correlation pass, for the weak-peak fraction (sizes are checked by diagnosePair)
         const disp = a.width === b.width && a.height === b.height && a.width >= windowPx && a.height >= windowPx
           ? await measureDisplacement(a, b, { windowPx, passes: 1 })
@@ -68,7 +71,7 @@ export function register(program: Command): void {
         show(log, `${ref} (reference): ${p.reference.width} × ${p.reference.height} px`, p.reference.findings);
         show(log, `${meas} (measurement)`, p.measurement.findings);
         show(log, 'pair', p.findings);
-        if (!disp) log.info(`note: weak-peak fraction not computed (images smaller than one ${windowPx} px window, or of different sizes)`);
+        if (!disp) log.info(`note: weak-peak fraction and image match not computed (images smaller than one ${windowPx} px window)`);
         usable = p.usable;
         log.json({ command: 'check', referenceFile: ref, measurementFile: meas, dotImageDiameterPx: p.reference.dotDiameterPx, ...p });
       }

@@ -96,16 +96,13 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
   const out = await OutputDir.open(o.out, !!o.force);
   const progress = new StageProgress(o);
   try {
-    // the banner once the inputs (images, mask, the pair's match) have passed their checks
-    let banner = false;
     const summary = await processPair(
       { refPath: ref, measPath: meas, ...(refPage !== undefined ? { refPage } : {}), ...(measPage !== undefined ? { measPage } : {}), options },
       out.staging,
-      (stage, fraction) => {
-        if (!banner && stage.startsWith('writing')) (banner = true), log.info(`rhofield ${kind}: ${ref} → ${meas}`);
-        progress.stage(stage, fraction);
-      },
+      (stage, fraction) => progress.stage(stage, fraction),
     );
+    // the banner only once the inputs (images, mask, the pair's match, the setup) passed their checks
+    log.info(`rhofield ${kind}: ${ref} → ${meas}`);
     progress.stage('moving results into place', 0.99);
     await out.commit();
     progress.stop();
