@@ -59,6 +59,9 @@ export interface LoadImageOptions {
 
 const FORMATS: readonly string[] = ['png', 'tiff', 'jpeg'];
 
+/** Largest page the loader decodes, px: libvips' default input limit (0x3FFF²), about 268 Mpx. */
+export const MAX_IMAGE_PIXELS = 0x3fff * 0x3fff;
+
 function firstLine(e: unknown): string {
   return String((e as Error)?.message ?? e).split('\n')[0]!.trim();
 }
@@ -142,6 +145,9 @@ export async function loadImage(path: string, options: LoadImageOptions = {}): P
     );
   }
   const n = info.width * info.height;
+  if (n > MAX_IMAGE_PIXELS) {
+    throw inputError(`${path} claims ${info.width}×${info.height} px, more than the ${MAX_IMAGE_PIXELS} px the loader takes (the decoder's limit); crop the image, or check whether the header is damaged`);
+  }
   const data = new Float32Array(n);
   try {
     let img = sharp(path, { page, failOn: 'truncated' });

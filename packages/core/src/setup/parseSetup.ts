@@ -257,7 +257,13 @@ export function loadSetup(path: string): Setup {
     let where: { line: number; column: number };
     if (lc) where = { line: Number(lc[1]), column: Number(lc[2]) };
     else where = lineColumn(text, m ? Number(m[1]) : text.length);
-    const detail = msg.replace(/ in JSON at position \d+.*$/, '').replace(/ \(line \d+ column \d+\)$/, '');
+    // one line: drop the position and the excerpt of the text that some messages quote (it may span lines)
+    const detail = msg
+      .replace(/ in JSON at position \d+[\s\S]*$/, '')
+      .replace(/ \(line \d+ column \d+\)$/, '')
+      .replace(/, (?:\.\.\.)?"[\s\S]*$/, '')
+      .replace(/\s+/g, ' ')
+      .replace(/[\u0000-\u001f\u007f]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
     throw inputError(`setup file ${path} is not valid JSON at line ${where.line}, column ${where.column}: ${detail}; fix the syntax there`);
   }
   return parseSetup(json, path);
