@@ -35,7 +35,7 @@ export function addDisplacementOptions(cmd: Command): Command {
     .option('--window <px>', 'final interrogation window side, px (power of two, 16–128)', '32')
     .option('--step <px>', 'spacing of the final windows, px (default window/2 = 50% overlap)')
     .option('--passes <n>', 'number of correlation passes (default 3, see schedule below)', '3')
-    .option('--mask <file>', 'mask image, same size as the photographs; non-zero pixels are used')
+    .option('--mask <file>', 'mask image, same size as the photographs; non-zero pixels are used (a mask leaving under 5 % of the vectors is refused)')
     .option('--flow-free <x0,y0,x1,y1>', 'flow-free rectangle in px whose mean displacement is removed (camera shake)')
     .option('--format <list>', 'output formats, any of npy,h5,vti,mat,csv,png,svg', DEFAULT_FORMATS)
     .option('--figure-width <mm>', 'print width of the figures in mm (with --dpi; default: 800 px wide)')
@@ -151,7 +151,7 @@ ${EXIT_CODES_HELP}`,
     .description('measure displacement, then reconstruct density (and temperature) with the optical setup')
     .argument('<ref>', 'reference image (no flow)')
     .argument('<meas>', 'measurement image (through the flow), same size')
-    .requiredOption('--setup <file>', 'setup file (JSON: camera, geometry, medium, flow; SI units)')
+    .requiredOption('--setup <file>', 'setup file (JSON: camera, geometry, medium, flow; SI units; at most 1 MiB and 32 levels deep)')
     .requiredOption('--out <dir>', 'output folder (must be new or empty unless --force)');
   addDisplacementOptions(r)
     .addHelpText(
