@@ -67,7 +67,11 @@ export function reportError(err: unknown, verbose = false): number {
       ENOTDIR: 'is not a folder; check the path',
       EISDIR: 'is a folder, expected a file; check the path',
     };
-    process.stderr.write(`rhofield: error: ${String(e.path)} ${what[e.code] ?? `failed (${e.code})`}\n`);
+    // name the user's path, not the temporary file or staging folder written on its behalf
+    const shown = String(e.path)
+      .replace(/\.tmp-\d+-\d+$/, '')
+      .replace(/(^|[\\/])\.([^\\/]+)\.rhofield-partial-[^\\/]*(?:[\\/].*)?$/, '$1$2');
+    process.stderr.write(`rhofield: error: ${shown} ${what[e.code] ?? `failed (${e.code})`}\n`);
     return e.code === 'ENOSPC' ? EXIT.failed : EXIT.usage;
   }
   const msg = err instanceof Error ? err.message : String(err);
