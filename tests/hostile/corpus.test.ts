@@ -86,6 +86,8 @@ const CASES: Record<string, Case> = {
   'displacement: --threads 0': { args: [...D, '--threads', '0'], code: 2, culprit: '--threads' },
   'displacement: --flow-free with three numbers': { args: [...D, '--flow-free', '1,2,3'], code: 2, culprit: '--flow-free' },
   'displacement: --flow-free inverted': { args: [...D, '--flow-free', '40,40,10,10'], code: 2, culprit: /for --flow-free but received/ },
+  'displacement: --flow-free outside the image': { args: [...D, '--flow-free', '5000,5000,6000,6000'], code: 2, culprit: /^rhofield: error: --flow-free \[5000, 5000, 6000, 6000\] contains no valid vector/ },
+  'displacement: --ref-page negative': { args: [...D, '--ref-page', '-1'], code: 2, culprit: '--ref-page' },
   'displacement: --format unknown': { args: [...D, '--format', 'npy,xls'], code: 2, culprit: /for --format but received "xls"/ },
   'displacement: --format empty': { args: [...D, '--format', ','], code: 2, culprit: /for --format but/ },
   'displacement: --dpi without --figure-width': { args: [...D, '--dpi', '300'], code: 2, culprit: '--figure-width' },

@@ -23,10 +23,18 @@ export const OPTION_FOR_PARAMETER: Readonly<Record<string, string>> = {
   angle: '--angle',
 };
 
-/** Rewrite "… for <library name> but received …" to name the option; other messages are unchanged. */
+/** Library names that cannot be mistaken for ordinary words (camelCase): replaced wherever they occur. */
+const CODE_NAMES = Object.keys(OPTION_FOR_PARAMETER).filter((k) => /[a-z][A-Z]/.test(k));
+const CODE_NAME_RE = new RegExp(`\\b(${CODE_NAMES.join('|')})\\b`, 'g');
+
+/**
+ * Rewrite "… for <library name> but received …" to name the option, and camelCase library names
+ * anywhere in the message (e.g. "flowFreeRegionPx [5000, …] contains no valid vector"); other messages
+ * are unchanged.
+ */
 export function withOptionNames(message: string): string {
   const m = /^(expected .*? for )([A-Za-z][\w ]*?)( but received .*)$/s.exec(message);
-  if (!m) return message;
-  const opt = OPTION_FOR_PARAMETER[m[2]!];
-  return opt ? m[1] + opt + m[3] : message;
+  const opt = m ? OPTION_FOR_PARAMETER[m[2]!] : undefined;
+  const named = m && opt ? m[1] + opt + m[3] : message;
+  return named.replace(CODE_NAME_RE, (k) => OPTION_FOR_PARAMETER[k]!);
 }

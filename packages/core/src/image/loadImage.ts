@@ -131,12 +131,24 @@ async function headerInfo(path: string): Promise<ImageInfo> {
  */
 export async function loadImage(path: string, options: LoadImageOptions = {}): Promise<LoadedImage> {
   const size = await checkFile(path);
+  // The integrity check reads the bytes on this thread while the decoder works on its own threads; a
+  // damaged file is reported as damaged even when the decoder also fails (its message is vaguer).
+  const integrity = checkImageIntegrity(path, size).then(
+    () => null,
+    (e: unknown) => (e instanceof RhofieldError ? e : inputError(`${path} could not be read (${firstLine(e)}); check the file and its permissions`)),
+  );
+  let img: LoadedImage;
   try {
-    await checkImageIntegrity(path, size);
+    img = await decodeImage(path, options);
   } catch (e) {
-    if (e instanceof RhofieldError) throw e;
-    throw inputError(`${path} could not be read (${firstLine(e)}); check the file and its permissions`);
+    throw (await integrity) ?? e;
   }
+  const damage = await integrity;
+  if (damage) throw damage;
+  return img;
+}
+
+async function decodeImage(path: string, options: LoadImageOptions): Promise<LoadedImage> {
   const info = await headerInfo(path);
   const page = options.page ?? 0;
   if (!Number.isInteger(page) || page < 0 || page >= info.pages) {
