@@ -6,9 +6,9 @@
  *
  * - PNG (ISO/IEC 15948, W3C PNG 2nd edition §5.3): every chunk's CRC-32 (over type and data) must
  *   match the stored one, and the chunk sequence must reach IEND within the file.
- * - TIFF (TIFF 6.0 §2, §15; BigTIFF): every IFD must lie inside the file, and for every page each
- *   strip (StripOffsets + StripByteCounts) or tile (TileOffsets + TileByteCounts) must end within the
- *   file.
+ * - TIFF (TIFF 6.0 §2, §15; BigTIFF): every IFD and every tag value stored outside its entry must lie
+ *   inside the file, and for every page each strip (StripOffsets + StripByteCounts) or tile
+ *   (TileOffsets + TileByteCounts) must end within the file.
  * JPEG is left to the decoder (`failOn: 'truncated'` catches a cut JPEG).
  *
  * Files are read piecewise through a file handle (1 MiB at a time), never as a whole.
@@ -136,6 +136,13 @@ async function checkTiff(fh: FileHandle, path: string, size: number): Promise<vo
       const e = table.subarray(k * entrySize, (k + 1) * entrySize);
       const tag = u16(e, 0);
       if (tag === 273 || tag === 279 || tag === 324 || tag === 325) found[tag] = await entryValues(fh, r, e, size, path, tag);
+      else {
+        // any other value stored outside the entry must lie inside the file too (unknown types are skipped)
+        const unit = TYPE_SIZE[u16(e, 2)] ?? 0;
+        const bytes = unit * (big ? u64(e, 4) : u32(e, 4));
+        const off = big ? u64(e, 12) : u32(e, 8);
+        if (bytes > (big ? 8 : 4) && off + bytes > size) throw damaged(path, `TIFF page ${page} tag ${tag} points past the end of the file (truncated)`);
+      }
     }
     for (const [offTag, countTag, what] of [[273, 279, 'strip'], [324, 325, 'tile']] as const) {
       const offs = found[offTag];
