@@ -1,13 +1,13 @@
 /**
  * Bad input never crashes (property-based, fast-check): setup values, setup files and image files,
  * mutated at random (tests/hostile/fuzzProperties.ts). A short run here — RHOFIELD_FUZZ_RUNS runs per
- * property, default 1000 — keeps `pnpm test` fast; the long run (10,000 cases and more) is the bench
+ * property, default 500 — keeps `pnpm test` fast; the long run (10,000 cases and more) is the bench
  * case `pnpm bench fuzz`.
  */
 import { describe, expect, it } from 'vitest';
-import { fuzzImages, fuzzSetupFiles, fuzzSetupValues, type FuzzReport } from './fuzzProperties.js';
+import { fuzzCommandLine, fuzzImages, fuzzSetupFiles, fuzzSetupValues, type FuzzReport } from './fuzzProperties.js';
 
-const RUNS = Number(process.env['RHOFIELD_FUZZ_RUNS'] ?? 1000);
+const RUNS = Number(process.env['RHOFIELD_FUZZ_RUNS'] ?? 500);
 
 function clean(r: FuzzReport): void {
   expect(r.accepted + r.refused + r.crashes).toBe(r.runs);
@@ -32,5 +32,10 @@ describe('bad input never crashes', () => {
     clean(r);
     expect(r.refused).toBeGreaterThan(RUNS / 4);
     expect(r.accepted).toBeGreaterThan(0);
+  });
+  it(`command line: ${Math.ceil(RUNS / 5)} runs of plan and check on mutated files, never exit 1`, async () => {
+    const r = await fuzzCommandLine(Math.ceil(RUNS / 5));
+    clean(r);
+    expect(r.refused).toBeGreaterThan(0);
   });
 });

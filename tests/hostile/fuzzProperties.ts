@@ -237,3 +237,70 @@ export async function fuzzImages(runs: number, seed = 3): Promise<FuzzReport> {
   }
   return t.report('image files (loadImage on mutated PNG/TIFF bytes)', runs, seed);
 }
+
+/** Run the CLI in-process with stdout/stderr captured. */
+async function runCli(argv: string[]): Promise<{ code: number; err: string }> {
+  const { run } = await import('../../packages/cli/src/main.js');
+  let err = '';
+  const ow = process.stdout.write.bind(process.stdout);
+  const ew = process.stderr.write.bind(process.stderr);
+  process.stdout.write = (() => true) as typeof process.stdout.write;
+  process.stderr.write = ((s: string | Uint8Array) => ((err += String(s)), true)) as typeof process.stderr.write;
+  process.exitCode = undefined;
+  try {
+    return { code: await run(argv), err };
+  } finally {
+    process.stdout.write = ow;
+    process.stderr.write = ew;
+    process.exitCode = undefined;
+  }
+}
+
+/**
+ * The command line on mutated inputs: `plan --setup` on edited setup text and `check` on mutated image
+ * bytes. Allowed: exit 0, 3 (check's verdict) or 2 with exactly one "rhofield: error:" line; exit 1 or
+ * anything else is a crash.
+ */
+export async function fuzzCommandLine(runs: number, seed = 4): Promise<FuzzReport> {
+  const t = new Tally();
+  const dir = mkdtempSync(path.join(os.tmpdir(), 'rf-fuzz-cli-'));
+  try {
+    const bases = await baseImages(dir);
+    const names = Object.keys(bases);
+    const base = JSON.stringify(BASE_SETUP, null, 2);
+    await fc.check(
+      fc.asyncProperty(fc.boolean(), fc.array(textEdit, { minLength: 1, maxLength: 4 }), fc.nat(names.length - 1), fc.array(byteEdit, { minLength: 1, maxLength: 3 }), async (plan, edits, which, bytesEdits) => {
+        let argv: string[];
+        let input: string;
+        if (plan) {
+          let text = base;
+          for (const e of edits) {
+            const at = e.at % (text.length + 1);
+            text = text.slice(0, at) + e.insert + text.slice(at + e.del);
+          }
+          writeFileSync(path.join(dir, 'setup.json'), text);
+          argv = ['plan', '--setup', path.join(dir, 'setup.json'), '--quiet'];
+          input = text;
+        } else {
+          const name = names[which]!;
+          const file = path.join(dir, `img.${name.startsWith('png') ? 'png' : 'tif'}`);
+          writeFileSync(file, mutateBytes(bases[name]!, bytesEdits));
+          argv = ['check', file, '--quiet'];
+          input = `${name} ${JSON.stringify(bytesEdits)}`;
+        }
+        const r = await runCli(argv);
+        const lines = r.err.trimEnd().split('\n');
+        if (r.code === 0 || r.code === 3) t.accepted++;
+        else if (r.code === 2 && lines.length === 1 && lines[0]!.startsWith('rhofield: error: ')) t.refused++;
+        else {
+          t.crashes++;
+          t.firstCrash ??= `${argv[0]} ${input.slice(0, 200)} → exit ${r.code}: ${r.err.slice(0, 300)}`;
+        }
+      }),
+      { numRuns: runs, seed },
+    );
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+  return t.report('command line (plan on edited setups, check on mutated images)', runs, seed);
+}
