@@ -8,7 +8,7 @@ import os from 'node:os';
 import path from 'node:path';
 import { crc32 } from 'node:zlib';
 import { describe, expect, it } from 'vitest';
-import { checkImageIntegrity, jsonDepth, loadImage, parseSetup, RhofieldError, saveImage16, saveImageStack16, setupWarnings } from '@rhofield/core';
+import { checkImageIntegrity, jsonDepth, loadImage, loadSetup, parseSetup, RhofieldError, saveImage16, saveImageStack16, setupWarnings } from '@rhofield/core';
 import { withOptionNames } from '../../packages/cli/src/optionNames.js';
 import { withSetupFile } from '../../packages/cli/src/inputChecks.js';
 import { png8, pngBadCrc, pngCrcOffset, tiffDirectoryFirst } from './damagedFiles.js';
@@ -108,6 +108,13 @@ describe('setup files', () => {
     expect(jsonDepth('{"a": "\\"[[["}')).toBe(1);
     expect(jsonDepth('['.repeat(1e6), 32)).toBe(33);
     expect(jsonDepth(JSON.stringify(BASE_SETUP))).toBe(3);
+  });
+  it('a JSON syntax error is placed at its line and column, also when the parser does not say where', () => {
+    const f = path.join(dir, 'tok.json');
+    writeFileSync(f, '{\n  "camera": {\n    "focalLength": tru\n  }\n}\n');
+    expect(() => loadSetup(f)).toThrow(/tok\.json is not valid JSON at line 3, column 23: Unexpected token line break/);
+    writeFileSync(f, '{\n  "camera": {\n    "focalLength": 0.1 x\n  }\n}\n');
+    expect(() => loadSetup(f)).toThrow(/at line 3, column 24: Expected ',' or '}' after property value/);
   });
   it('derived optics that overflow are refused naming the four keys', () => {
     const s = structuredClone(BASE_SETUP) as { geometry: { lensToBackground: number } };

@@ -210,6 +210,33 @@ export function jsonDepth(text: string, limit = Infinity): number {
   return max;
 }
 
+/**
+ * Where JSON.parse fails, for the messages that do not say (V8's "Unexpected token …"): the longest
+ * prefix that is only incomplete (it fails at its very end) ends at the bad character. Binary search,
+ * about 20 parses.
+ */
+function syntaxErrorPosition(text: string): number {
+  const incomplete = (p: number): boolean => {
+    try {
+      JSON.parse(text.slice(0, p));
+      return true;
+    } catch (e) {
+      const msg = (e as Error).message;
+      if (/Unexpected end of JSON input/.test(msg)) return true;
+      const at = /at position (\d+)/.exec(msg);
+      return at !== null && Number(at[1]) >= p;
+    }
+  };
+  let lo = 0;
+  let hi = text.length;
+  while (lo < hi) {
+    const mid = (lo + hi + 1) >> 1;
+    if (incomplete(mid)) lo = mid;
+    else hi = mid - 1;
+  }
+  return lo;
+}
+
 function lineColumn(text: string, pos: number): { line: number; column: number } {
   let line = 1;
   let last = -1;
@@ -256,12 +283,13 @@ export function loadSetup(path: string): Setup {
     const lc = /line (\d+) column (\d+)/.exec(msg);
     let where: { line: number; column: number };
     if (lc) where = { line: Number(lc[1]), column: Number(lc[2]) };
-    else where = lineColumn(text, m ? Number(m[1]) : text.length);
+    else where = lineColumn(text, m ? Number(m[1]) : syntaxErrorPosition(text));
     // one line: drop the position and the excerpt of the text that some messages quote (it may span lines)
     const detail = msg
       .replace(/ in JSON at position \d+[\s\S]*$/, '')
       .replace(/ \(line \d+ column \d+\)$/, '')
       .replace(/, (?:\.\.\.)?"[\s\S]*$/, '')
+      .replace(/'\r?\n'/, 'line break')
       .replace(/\s+/g, ' ')
       .replace(/[\u0000-\u001f\u007f]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
     throw inputError(`setup file ${path} is not valid JSON at line ${where.line}, column ${where.column}: ${detail}; fix the syntax there`);
