@@ -59,10 +59,12 @@ export function checkMeasuredPair(
 
 /**
  * Name the setup file in a library error about setup keys ("for camera.sensorPx" → "for FILE:
- * camera.sensorPx"; other usage errors about the setup get "FILE: " in front). Other errors pass.
+ * camera.sensorPx"); other usage errors get "FILE: " in front when `prefixOthers` (the call was about
+ * the setup alone). Other errors pass.
  */
-export function withSetupFile(e: unknown, file: string): unknown {
+export function withSetupFile(e: unknown, file: string, prefixOthers = true): unknown {
   if (!(e instanceof RhofieldError) || e.kind !== 'usage' || e.message.includes(file)) return e;
   const keyed = e.message.replace(/ for ((?:camera|geometry|medium|flow|expected)\b[\w.[\]]*|lensToBackground) but received /, (_m, k: string) => ` for ${file}: ${k === 'lensToBackground' ? 'geometry.lensToBackground' : k} but received `);
-  return new RhofieldError(e.kind, keyed !== e.message ? keyed : `${file}: ${e.message}`);
+  if (keyed !== e.message) return new RhofieldError(e.kind, keyed);
+  return prefixOthers ? new RhofieldError(e.kind, `${file}: ${e.message}`) : e;
 }

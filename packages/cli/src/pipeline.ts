@@ -131,7 +131,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
   let density: ReturnType<typeof reconstructDensity> | null = null;
   if (setup) {
     onStage('reconstructing density', 0.88);
-    density = await t('reconstruct', () => reconstructDensity(disp, setup)).catch((e: unknown) => Promise.reject(withSetupFile(e, o.setupPath ?? 'setup')));
+    density = await t('reconstruct', () => reconstructDensity(disp, setup)).catch((e: unknown) => Promise.reject(withSetupFile(e, o.setupPath ?? 'setup', false)));
     onStage('writing density files', 0.92);
     await t('write_density', async () => {
       const set = densityFieldSet(density!, { xPx: disp.grid.xPx, yPx: disp.grid.yPx }, { settings });
