@@ -114,6 +114,14 @@ const GENUINE: Record<string, () => Promise<DisplacementResult>> = {
     const p = synthPair({ width: W, height: W, diameterPx: 2.8, dotsPerWindow: 10, seed: 5, bitDepth: 16, peak: PEAK, noiseSigma: 0.03 * PEAK, displacement: { kind: 'uniform', dx: 2.3, dy: -1.1 } });
     return measure(p.ref, p.meas);
   },
+  'image noise 20 % of the dot peak (no clear peaks left, but few vectors flagged)': async () => {
+    const p = synthPair({ width: W, height: W, diameterPx: 2.8, dotsPerWindow: 10, seed: 5, bitDepth: 16, peak: PEAK, noiseSigma: 0.2 * PEAK, displacement: { kind: 'uniform', dx: 2.3, dy: -1.1 } });
+    return measure(p.ref, p.meas);
+  },
+  'dot images of 10 px (heavy blur)': async () => {
+    const p = synthPair({ width: W, height: W, diameterPx: 10, dotsPerWindow: 10, seed: 5, bitDepth: 16, peak: PEAK, noiseSigma: 0.02 * PEAK, displacement: { kind: 'uniform', dx: 2.3, dy: -1.1 } });
+    return measure(p.ref, p.meas);
+  },
   'natural texture instead of dots, shifted (2, 1) px': async () => {
     const t = naturalTexture(7, W + 8, W + 8);
     return measure(crop(t, 4, 4, W, W), crop(t, 6, 5, W, W));

@@ -18,7 +18,9 @@
  * correlation 0.09, 0 % of vectors ≥ 0.5, 44 % flagged; unrelated dot images 0.24, 0 %, 38 %. The genuine
  * hard cases — an oblique shock smoothed over σ = 3 px, image noise 3 % of the dot peak, a natural
  * (blurred-noise) texture, a strong illumination change across the image — give median 0.88–1.0 and
- * ≥ 99 % of vectors ≥ 0.5. The measureDisplacement documentation reports spurious peaks between
+ * ≥ 99 % of vectors ≥ 0.5. Very noisy genuine pairs lose their clear peaks too (noise 20 % of the dot
+ * peak: 0 % ≥ 0.5), and there the median test decides: 12 % flagged at 20 % noise, 20 % at 30 %, against
+ * 35–65 % for unrelated pairs. The measureDisplacement documentation reports spurious peaks between
  * unrelated dot images up to 0.55 (99th percentile 0.42), hence a share, not a single window.
  *
  * A mask leaving fewer than {@link MIN_UNMASKED_SHARE} (5 %) of the vectors is reported separately by
