@@ -11,7 +11,7 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import fc from 'fast-check';
-import { loadImage, loadSetup, parseSetup, planSetup, RhofieldError, saveImage16, setupWarnings, type Field } from '@rhofield/core';
+import { formatPlan, loadImage, loadSetup, parseSetup, planSetup, RhofieldError, saveImage16, setupWarnings, type Field } from '@rhofield/core';
 import { png8, tiffDirectoryFirst } from './damagedFiles.js';
 
 /** Outcome counts of one property. */
@@ -85,6 +85,22 @@ const mutation: fc.Arbitrary<Mutation> = fc.record({
   key: fc.oneof(fc.string({ maxLength: 8 }), fc.constantFrom('gas', 'mixture', 'gladstoneDale', 'type', 'axis', 'axisPosition', 'rectPx', 'temperatureChange', '__proto__', 'constructor')),
 });
 
+const NUMBER_PATHS = SETUP_PATHS.filter((p) => typeof p.reduce<unknown>((o, k) => (o as Record<string | number, unknown>)[k], BASE_SETUP) === 'number');
+
+/** A valid-shaped setup whose numbers are each kept (6 in 7) or replaced by ±10^u, u in [−330, 310]: overflow hunting. */
+const extremeSetup: fc.Arbitrary<unknown> = fc
+  .array(fc.oneof({ weight: 6, arbitrary: fc.constant(null) }, { weight: 1, arbitrary: fc.tuple(fc.double({ min: -330, max: 310, noNaN: true }), fc.boolean()) }), { minLength: NUMBER_PATHS.length, maxLength: NUMBER_PATHS.length })
+  .map((choices) => {
+    const root = structuredClone(BASE_SETUP) as unknown as Record<string, unknown>;
+    choices.forEach((c, i) => {
+      if (!c) return;
+      const p = NUMBER_PATHS[i]!;
+      const parent = p.slice(0, -1).reduce<unknown>((o, k) => (o as Record<string | number, unknown>)[k], root) as Record<string | number, unknown>;
+      parent[p[p.length - 1]!] = (c[1] ? -1 : 1) * 10 ** c[0];
+    });
+    return root;
+  });
+
 function applyMutations(base: unknown, ms: readonly Mutation[]): unknown {
   const root = structuredClone(base) as Record<string, unknown>;
   for (const m of ms) {
@@ -101,19 +117,27 @@ function applyMutations(base: unknown, ms: readonly Mutation[]): unknown {
   return root;
 }
 
-/** parseSetup (and, when it passes, setupWarnings and planSetup) on random and mutated values. */
+/**
+ * parseSetup (and, when it passes, setupWarnings and planSetup) on random and mutated values; a printed
+ * plan showing Infinity or NaN counts as a crash.
+ */
 export function fuzzSetupValues(runs: number, seed = 1): FuzzReport {
   const t = new Tally();
   const input = fc.oneof(
     { weight: 1, arbitrary: anyValue },
     { weight: 4, arbitrary: fc.array(mutation, { minLength: 1, maxLength: 4 }).map((ms) => applyMutations(BASE_SETUP, ms)) },
+    { weight: 2, arbitrary: extremeSetup },
   );
   fc.check(
     fc.property(input, (v) => {
       try {
         const s = parseSetup(v, 'fuzz.json');
         setupWarnings(s, 'fuzz.json');
-        if (s.camera.fNumber !== undefined && s.camera.sensorPx && s.expected) planSetup(s);
+        if (s.camera.fNumber !== undefined && s.camera.sensorPx && s.expected) {
+          // a plan that is printed must not show non-finite numbers (the "plan prints Infinity" fault)
+          const table = formatPlan(planSetup(s));
+          if (/Infinity|NaN/.test(table)) throw new Error(`plan printed a non-finite number: ${table.split('\n').find((l) => /Infinity|NaN/.test(l))}`);
+        }
         t.accepted++;
       } catch (e) {
         t.judge(e, () => safeJson(v));

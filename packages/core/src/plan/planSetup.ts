@@ -211,6 +211,7 @@ export function planSetup(setup: PlanSetupInput, opts: PlanOptions = {}): SetupP
   const geoImgPx = (M * dot) / p;
   const perPx2 = fill / ((Math.PI * geoImgPx * geoImgPx) / 4);
   const needW = Math.sqrt(10 / perPx2);
+  if (!Number.isFinite(needW)) throw notFinite('window needed for 10 dots', needW, `camera.fNumber, medium.wavelength, ${OPTICS}`);
   const windowPx = WINDOWS.find((w) => w >= Math.max(16, needW)) ?? 128;
   const firstWindowPx = WINDOWS.find((w) => w >= Math.max(windowPx, 4 * dMax)) ?? 128;
   const disturbancePx = 2 * Lpx;
@@ -338,13 +339,15 @@ const PLAN_SOURCES: Readonly<Partial<Record<keyof SetupPlan, string>>> = {
   windowsAcrossDisturbance: `expected.lengthScale, ${OPTICS}`,
 };
 
+function notFinite(what: string, value: string | number, keys: string): RhofieldError {
+  return new RhofieldError('usage', `the planned ${what} is ${value}, not a finite number; check the setup keys it comes from (${keys}) and their units (SI: metres, kg/m³, K)`);
+}
+
 /** Every planned number must be finite: extreme inputs (1e300 m, 1e-300 m) overflow the formulas. */
 function requireFinitePlan(plan: SetupPlan): void {
   for (const [k, keys] of Object.entries(PLAN_SOURCES)) {
     const v = plan[k as keyof SetupPlan] as unknown;
     const values = Array.isArray(v) ? (v as number[]) : typeof v === 'number' ? [v] : [];
-    if (values.some((x) => !Number.isFinite(x))) {
-      throw new RhofieldError('usage', `the planned ${k} is ${values.join(' × ')}, not a finite number; check the setup keys it comes from (${keys}) and their units (SI: metres, kg/m³, K)`);
-    }
+    if (values.some((x) => !Number.isFinite(x))) throw notFinite(k, values.join(' × '), keys);
   }
 }
