@@ -7,8 +7,9 @@ import { mkdtempSync, readFileSync, statSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { crc32 } from 'node:zlib';
-import { describe, expect, it } from 'vitest';
+import { describe, expect, it, vi } from 'vitest';
 import { checkImageIntegrity, jsonDepth, loadImage, loadSetup, parseSetup, RhofieldError, saveImage16, saveImageStack16, setupWarnings } from '@rhofield/core';
+import { reportError } from '../../packages/cli/src/common.js';
 import { withOptionNames } from '../../packages/cli/src/optionNames.js';
 import { withSetupFile } from '../../packages/cli/src/inputChecks.js';
 import { png8, pngBadCrc, pngCrcOffset, tiffDirectoryFirst } from './damagedFiles.js';
@@ -139,6 +140,23 @@ describe('names at the command line', () => {
     // setup keys and ordinary words are left alone
     expect(withOptionNames('expected x for rig.json: flow.reference.rectPx but received 1')).toBe('expected x for rig.json: flow.reference.rectPx but received 1');
     expect(withOptionNames('the format of the file is unknown')).toBe('the format of the file is unknown');
+  });
+  it('file-system errors name the user\'s path, not the temporary file or the staging folder', () => {
+    const lines: string[] = [];
+    const spy = vi.spyOn(process.stderr, 'write').mockImplementation((s: string | Uint8Array) => (lines.push(String(s)), true));
+    try {
+      const errno = (code: string, p: string) => Object.assign(new Error(code), { code, path: p });
+      expect(reportError(errno('ENOSPC', 'res/view.png.tmp-123-1700000000000'))).toBe(1);
+      expect(reportError(errno('EROFS', '/data/.run7.rhofield-partial-4242-1700000000000/displacement.npy'))).toBe(2);
+      expect(reportError(errno('EACCES', 'plain/file.png'))).toBe(2);
+    } finally {
+      spy.mockRestore();
+    }
+    expect(lines).toEqual([
+      'rhofield: error: res/view.png could not be written: the disk is full; free space and rerun\n',
+      'rhofield: error: /data/run7 could not be written: read-only file system; choose another --out\n',
+      'rhofield: error: plain/file.png is not accessible; check permissions\n',
+    ]);
   });
   it('setup keys get their file', () => {
     const e = withSetupFile(new RhofieldError('usage', 'expected [width, height] for camera.sensorPx but received nothing'), 'rig.json') as RhofieldError;
