@@ -36,16 +36,35 @@ async function readExact(fh: FileHandle, buf: Buffer, length: number, position: 
   return got;
 }
 
+/**
+ * Sequential reads through a 1 MiB window: PNG files hold many small chunks (libvips writes 8 KiB IDAT
+ * chunks), and one read per chunk header would cost more than the checksums.
+ */
+class WindowReader {
+  private readonly buf = Buffer.alloc(PIECE);
+  private start = 0;
+  private length = 0;
+  constructor(private readonly fh: FileHandle) {}
+  /** Bytes [pos, pos + n) of the file, n ≤ 1 MiB; shorter at the end of the file. */
+  async at(pos: number, n: number): Promise<Buffer> {
+    if (pos < this.start || pos + n > this.start + this.length) {
+      this.start = pos;
+      this.length = await readExact(this.fh, this.buf, PIECE, pos);
+    }
+    return this.buf.subarray(pos - this.start, Math.min(pos - this.start + n, this.length));
+  }
+}
+
 /** Walk the PNG chunks, verifying each CRC-32; stops at IEND. */
 async function checkPng(fh: FileHandle, path: string, size: number): Promise<void> {
-  const head = Buffer.alloc(12);
-  if ((await readExact(fh, head, 8, 0)) < 8 || PNG_SIGNATURE.some((b, i) => head[i] !== b)) throw damaged(path, 'bad PNG signature');
-  const piece = Buffer.alloc(PIECE);
+  const r = new WindowReader(fh);
+  const sig = await r.at(0, 8);
+  if (sig.length < 8 || PNG_SIGNATURE.some((b, i) => sig[i] !== b)) throw damaged(path, 'bad PNG signature');
   let pos = 8;
   let first = true;
   for (;;) {
     if (pos + 12 > size) throw damaged(path, `the file ends at byte ${size} before the PNG end chunk (truncated)`);
-    await readExact(fh, head, 8, pos);
+    const head = await r.at(pos, 8);
     const length = head.readUInt32BE(0);
     const type = head.toString('latin1', 4, 8);
     if (!/^[A-Za-z]{4}$/.test(type)) throw damaged(path, `unreadable PNG chunk at byte ${pos}`);
@@ -56,15 +75,15 @@ async function checkPng(fh: FileHandle, path: string, size: number): Promise<voi
     let left = length;
     let at = pos + 8;
     while (left > 0) {
-      const n = Math.min(left, PIECE);
-      await readExact(fh, piece, n, at);
-      crc = crc32(piece.subarray(0, n), crc);
-      left -= n;
-      at += n;
+      const piece = await r.at(at, Math.min(left, PIECE));
+      if (piece.length === 0) throw damaged(path, `PNG chunk ${type} at byte ${pos} runs past the end of the file (truncated)`);
+      crc = crc32(piece, crc);
+      left -= piece.length;
+      at += piece.length;
     }
-    await readExact(fh, head, 4, at);
-    const stored = head.readUInt32BE(0);
-    if (stored !== crc >>> 0) throw damaged(path, `checksum of PNG chunk ${type} at byte ${pos} does not match`);
+    const tail = await r.at(at, 4);
+    if (tail.length < 4) throw damaged(path, `PNG chunk ${type} at byte ${pos} runs past the end of the file (truncated)`);
+    if (tail.readUInt32BE(0) !== crc >>> 0) throw damaged(path, `checksum of PNG chunk ${type} at byte ${pos} does not match`);
     pos = at + 4;
     if (type === 'IEND') return;
   }
