@@ -9,6 +9,7 @@ import { createHash } from 'node:crypto';
 import { createReadStream, existsSync, promises as fsp, statSync } from 'node:fs';
 import path from 'node:path';
 import { RhofieldError, invalidParameter, VERSION } from '@rhofield/core';
+import { withOptionNames } from './optionNames.js';
 
 export const EXIT = { ok: 0, failed: 1, usage: 2, unusable: 3 } as const;
 
@@ -44,10 +45,14 @@ export class Log {
   }
 }
 
-/** Map any thrown value to a one-line message and an exit code; stack only with --verbose. */
+/**
+ * Map any thrown value to a one-line message and an exit code; stack only with --verbose. Library
+ * parameter names are replaced by the options the user typed (optionNames.ts); the message is kept to
+ * one line.
+ */
 export function reportError(err: unknown, verbose = false): number {
   if (err instanceof RhofieldError) {
-    process.stderr.write(`rhofield: error: ${err.message}\n`);
+    process.stderr.write(`rhofield: error: ${withOptionNames(err.message).replace(/\s*\n\s*/g, ' ')}\n`);
     if (verbose && err.stack) process.stderr.write(err.stack + '\n');
     return err.kind === 'processing' ? EXIT.failed : err.kind === 'unusable' ? EXIT.unusable : EXIT.usage;
   }
@@ -62,7 +67,11 @@ export function reportError(err: unknown, verbose = false): number {
       ENOTDIR: 'is not a folder; check the path',
       EISDIR: 'is a folder, expected a file; check the path',
     };
-    process.stderr.write(`rhofield: error: ${String(e.path)} ${what[e.code] ?? `failed (${e.code})`}\n`);
+    // name the user's path, not the temporary file or staging folder written on its behalf
+    const shown = String(e.path)
+      .replace(/\.tmp-\d+-\d+$/, '')
+      .replace(/(^|[\\/])\.([^\\/]+)\.rhofield-partial-[^\\/]*(?:[\\/].*)?$/, '$1$2');
+    process.stderr.write(`rhofield: error: ${shown} ${what[e.code] ?? `failed (${e.code})`}\n`);
     return e.code === 'ENOSPC' ? EXIT.failed : EXIT.usage;
   }
   const msg = err instanceof Error ? err.message : String(err);

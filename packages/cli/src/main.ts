@@ -18,11 +18,11 @@ export function buildProgram(): Command {
         'density (and temperature). Run `rhofield <command> --help` for details.',
     )
     .version(VERSION, '-V, --version')
-    .showHelpAfterError('(run with --help for usage)')
     .addHelpText('after', EXIT_CODES_HELP)
     .exitOverride();
   program.configureOutput({
-    writeErr: (s) => process.stderr.write(s.startsWith('error:') ? 'rhofield: ' + s : s),
+    // one line: the parser's message and where the usage is
+    writeErr: (s) => process.stderr.write(s.startsWith('error:') ? `rhofield: ${s.trim().replace(/\s*\n\s*/g, ' ')}; run with --help for usage\n` : s),
   });
   for (const register of commands) register(program);
   for (const c of program.commands) c.exitOverride();

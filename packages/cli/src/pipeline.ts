@@ -23,6 +23,7 @@ import {
   type Setup,
 } from '@rhofield/core';
 import { provenance, sha256File } from './common.js';
+import { checkLoadedPair, checkMeasuredPair, withSetupFile } from './inputChecks.js';
 
 /** Options of one pair (JSON-able: it crosses to batch workers). */
 export interface PairOptions {
@@ -41,6 +42,8 @@ export interface PairOptions {
   interpolation?: 'lanczos4' | 'bspline3';
   /** Figure print size: width in mm and resolution (PNG width = widthMm/25.4·dpi px); default 800 px wide. */
   figure?: { widthMm?: number; dpi?: number };
+  /** Keep the result of a pair whose images do not match (see inputChecks.ts) instead of refusing it. */
+  acceptMismatch?: boolean;
 }
 
 export interface PairJob {
@@ -82,6 +85,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
       `images differ in size: reference ${job.refPath} is ${refImg.width}×${refImg.height}, measurement ${job.measPath} is ${measImg.width}×${measImg.height}; use a pair from the same camera and crop`,
     );
   }
+  checkLoadedPair(refImg.field, measImg.field, job.refPath, job.measPath);
   const mask = o.maskPath ? await t('mask', () => loadMask(o.maskPath!, { width: refImg.width, height: refImg.height })) : undefined;
   onStage('measuring displacement', 0.05);
   const disp = await t('displacement', () =>
@@ -96,6 +100,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
       ...(engine ? { engine } : {}),
     }),
   );
+  const inputWarnings = checkMeasuredPair(disp, { refPath: job.refPath, measPath: job.measPath, maskPath: o.maskPath, setupPath: o.setupPath }, { acceptMismatch: o.acceptMismatch, setup: o.setup, width: refImg.width, height: refImg.height });
 
   const setup = o.setup ?? null;
   let mapping: ReturnType<typeof pixelMapping> | null = null;
@@ -131,7 +136,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
   let density: ReturnType<typeof reconstructDensity> | null = null;
   if (setup) {
     onStage('reconstructing density', 0.88);
-    density = await t('reconstruct', () => reconstructDensity(disp, setup));
+    density = await t('reconstruct', () => reconstructDensity(disp, setup)).catch((e: unknown) => Promise.reject(withSetupFile(e, o.setupPath ?? 'setup', false)));
     onStage('writing density files', 0.92);
     await t('write_density', async () => {
       const set = densityFieldSet(density!, { xPx: disp.grid.xPx, yPx: disp.grid.yPx }, { settings });
@@ -182,7 +187,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
           },
         }
       : {}),
-    warnings: disp.warnings.concat(density?.warnings ?? []),
+    warnings: inputWarnings.concat(disp.warnings, density?.warnings ?? []),
     timingsSeconds: timings,
   };
   await fsp.writeFile(path.join(outDir, 'result.json'), JSON.stringify(summary, null, 2) + '\n');

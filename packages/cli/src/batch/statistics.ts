@@ -271,6 +271,33 @@ export async function writePartial(dir: string, acc: BatchAccumulators | null, i
   }
 }
 
+/** Read and check a shard's partial.json: every field present with its type, else an input error naming the file. */
+async function readPartialInfo(f: string, k: number, n: number): Promise<PartialInfo> {
+  const redo = `rerun shard ${k}/${n} (--shard ${k}/${n}), then merge`;
+  let v: unknown;
+  try {
+    v = JSON.parse(await fsp.readFile(f, 'utf8'));
+  } catch {
+    throw inputError(`${f} is not valid JSON (damaged or cut short); ${redo}`);
+  }
+  const o = v as Record<string, unknown> | null;
+  const isInt = (x: unknown) => typeof x === 'number' && Number.isInteger(x) && x >= 0;
+  const strings = (x: unknown) => Array.isArray(x) && x.every((e) => typeof e === 'string');
+  const shard = o && typeof o === 'object' ? (o['shard'] as Record<string, unknown> | null) : null;
+  const bad =
+    !o || typeof o !== 'object' ? 'not an object'
+    : !shard || typeof shard !== 'object' || shard['index'] !== k || shard['count'] !== n ? `shard is not {index: ${k}, count: ${n}}`
+    : typeof o['settingsHash'] !== 'string' ? 'settingsHash is missing'
+    : typeof o['jobsHash'] !== 'string' ? 'jobsHash is missing'
+    : !isInt(o['pairsTotal']) || !isInt(o['rows']) || !isInt(o['cols']) ? 'pairsTotal, rows or cols is not a count'
+    : typeof o['hasDensity'] !== 'boolean' ? 'hasDensity is missing'
+    : !strings(o['pairIds']) || !strings(o['failed']) ? 'pairIds or failed is not a list of names'
+    : (o['pairIds'] as string[]).length > 0 && ((o['rows'] as number) < 1 || (o['cols'] as number) < 1) ? 'the grid is empty'
+    : null;
+  if (bad) throw inputError(`${f} is damaged (${bad}); ${redo}`);
+  return o as unknown as PartialInfo;
+}
+
 /**
  * Combine the partial statistics of all shards of DIR in shard order (= frame order).
  * @throws RhofieldError (input) if there are no shards, shards of different N, a missing shard, or
@@ -291,7 +318,7 @@ export async function mergePartials(dir: string, settingsHash: string): Promise<
       missing.push(k);
       continue;
     }
-    infos.push(JSON.parse(await fsp.readFile(f, 'utf8')) as PartialInfo);
+    infos.push(await readPartialInfo(f, k, n));
   }
   if (missing.length) throw inputError(`shard(s) ${missing.map((k) => `${k}/${n}`).join(', ')} of ${dir} have not finished; rerun those tasks (--shard K/${n}), then merge`);
   for (const p of infos) {
@@ -303,7 +330,19 @@ export async function mergePartials(dir: string, settingsHash: string): Promise<
     if (p.pairIds.length === 0) continue;
     const sd = layout.shard(dir, p.shard.index, n);
     const len = p.rows * p.cols;
-    const read = async (q: string) => unpackAcc((await readNpy(path.join(sd, `${q}_acc.npy`))).data as Float64Array, len);
+    const read = async (q: string) => {
+      const f = path.join(sd, `${q}_acc.npy`);
+      let a: Awaited<ReturnType<typeof readNpy>>;
+      try {
+        a = await readNpy(f);
+      } catch (e) {
+        throw inputError(`${f} is missing or damaged (${(e as NodeJS.ErrnoException).code === 'ENOENT' ? 'no such file' : 'not a readable .npy array'}); rerun shard ${p.shard.index}/${n} (--shard ${p.shard.index}/${n}), then merge`);
+      }
+      if (!(a.data instanceof Float64Array) || a.data.length !== 3 * len) {
+        throw inputError(`${f} holds ${a.data.length} values, expected ${3 * len} (3×${p.rows}×${p.cols}); rerun shard ${p.shard.index}/${n}, then merge`);
+      }
+      return unpackAcc(a.data, len);
+    };
     const part: BatchAccumulators = { rows: p.rows, cols: p.cols, dx: await read('dx'), dy: await read('dy'), density: p.hasDensity ? await read('density') : null, pairIds: p.pairIds };
     if (!acc) {
       acc = part;

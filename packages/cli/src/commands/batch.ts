@@ -52,6 +52,7 @@ export interface BatchOpts {
   arrayTasks?: string;
   maxMemory?: string;
   force?: boolean;
+  acceptMismatch?: boolean;
   json?: boolean;
   quiet?: boolean;
   verbose?: boolean;
@@ -132,6 +133,7 @@ async function planFromOptions(o: BatchOpts, log: Log) {
     ...(setup !== undefined ? { setup, setupPath: path.resolve(o.setup as string) } : {}),
     formats: formats.join(','),
     threads: 1,
+    ...(o.acceptMismatch ? { acceptMismatch: true } : {}),
   };
   // everything that decides a pair's results; the frame list itself may grow between runs (--range)
   const settings: Record<string, unknown> = {
@@ -146,6 +148,7 @@ async function planFromOptions(o: BatchOpts, log: Log) {
     flowFreeRegionPx: flowFreeRegionPx ?? null,
     setupSha256: setupHash ?? null,
     formats,
+    ...(o.acceptMismatch ? { acceptMismatch: true } : {}),
   };
   return { jobs, mode, settings, pairOptions, framesKind: frames.kind };
 }
@@ -183,6 +186,7 @@ function commandArgs(o: BatchOpts, workers: number): string[] {
   add('--flow-free', o.flowFree);
   add('--format', o.format);
   add('--max-memory', o.maxMemory);
+  if (o.acceptMismatch) a.push('--accept-mismatch');
   a.push('--workers', String(workers));
   if (o.json) a.push('--json');
   if (o.quiet) a.push('--quiet');
@@ -320,6 +324,7 @@ export function register(program: Command): void {
     .option('--emit-job-script <file>', 'write a SLURM sbatch script running this batch as a job array, then exit')
     .option('--array-tasks <n>', 'number of job-array tasks for --emit-job-script (default 4)')
     .option('--force', 'discard existing results in --out first (refused with --shard)')
+    .option('--accept-mismatch', 'keep pairs whose two images do not show the same background (by default such a pair is recorded as failed; see rhofield displacement --help)')
     .option('--json', 'print a JSON summary on stdout')
     .option('--quiet', 'no messages on stderr except warnings and errors')
     .option('--verbose', 'per-pair messages and stack traces')

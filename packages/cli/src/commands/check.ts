@@ -5,7 +5,7 @@
  * usage/input errors.
  */
 import type { Command } from 'commander';
-import { diagnoseImage, diagnosePair, invalidParameter, loadImage, measureDisplacement, type Field, type Finding } from '@rhofield/core';
+import { diagnoseImage, diagnosePair, inputError, invalidParameter, loadImage, measureDisplacement, type Field, type Finding } from '@rhofield/core';
 import { EXIT, EXIT_CODES_HELP, Log, parseIntOpt, parseNumOpt, requireFile } from '../common.js';
 
 interface CheckOpts {
@@ -33,7 +33,7 @@ function show(log: Log, title: string, findings: readonly Finding[]): void {
 export function register(program: Command): void {
   program
     .command('check')
-    .description('Check whether a reference image (and optionally a measurement image) is fit for BOS measurement: dot image diameter (e⁻², px), dots per window, contrast, clipped pixels, noise and focus; for a pair, the global shift (camera moved?) and the fraction of weak correlation peaks. Each finding comes with advice. Exit code 3 means the images are unusable for measurement.')
+    .description('Check whether a reference image (and optionally a measurement image) is fit for BOS measurement: dot image diameter (e⁻², px), dots per window, contrast, clipped pixels, noise and focus; for a pair, the global shift (camera moved?), the fraction of weak correlation peaks and whether the two images show the same background at all (fewer than 10 % of windows with a correlation peak ≥ 0.5 and ≥ 25 % flagged by the median test: unusable). Damaged files (PNG checksum, TIFF cut short) are refused with exit 2. Each finding comes with advice. Exit code 3 means the images are unusable for measurement.')
     .argument('<ref>', 'reference image (PNG, TIFF, JPEG; colour is converted to grey)')
     .argument('[meas]', 'measurement image of the same size (optional)')
     .option('--window <px>', 'interrogation window side for the dots-per-window figure and the correlation pass: a power of two 16–128, as in displacement (default 32)')
@@ -60,6 +60,9 @@ export function register(program: Command): void {
         log.json({ command: 'check', referenceFile: ref, dotImageDiameterPx: r.dotDiameterPx, ...r });
       } else {
         const b = await loadGrey(meas);
+        if (a.width !== b.width || a.height !== b.height) {
+          throw inputError(`images differ in size: reference ${ref} is ${a.width}×${a.height}, measurement ${meas} is ${b.width}×${b.height}; check a pair from the same camera and crop`);
+        }
         // a single plain correlation pass, for the weak-peak fraction (sizes are checked by diagnosePair)
         const disp = a.width === b.width && a.height === b.height && a.width >= windowPx && a.height >= windowPx
           ? await measureDisplacement(a, b, { windowPx, passes: 1 })
@@ -68,7 +71,7 @@ export function register(program: Command): void {
         show(log, `${ref} (reference): ${p.reference.width} × ${p.reference.height} px`, p.reference.findings);
         show(log, `${meas} (measurement)`, p.measurement.findings);
         show(log, 'pair', p.findings);
-        if (!disp) log.info(`note: weak-peak fraction not computed (images smaller than one ${windowPx} px window, or of different sizes)`);
+        if (!disp) log.info(`note: weak-peak fraction and image match not computed (images smaller than one ${windowPx} px window)`);
         usable = p.usable;
         log.json({ command: 'check', referenceFile: ref, measurementFile: meas, dotImageDiameterPx: p.reference.dotDiameterPx, ...p });
       }

@@ -24,6 +24,7 @@ interface PairCliOpts extends GlobalOpts {
   figureWidth?: string;
   dpi?: string;
   maxMemory?: string;
+  acceptMismatch?: boolean;
 }
 
 const SAFETY = `
@@ -36,7 +37,7 @@ export function addDisplacementOptions(cmd: Command): Command {
     .option('--window <px>', 'final interrogation window side, px (power of two, 16–128)', '32')
     .option('--step <px>', 'spacing of the final windows, px (default window/2 = 50% overlap)')
     .option('--passes <n>', 'number of correlation passes (default 3, see schedule below)', '3')
-    .option('--mask <file>', 'mask image, same size as the photographs; non-zero pixels are used')
+    .option('--mask <file>', 'mask image, same size as the photographs; non-zero pixels are used (a mask leaving under 5 % of the vectors is refused)')
     .option('--flow-free <x0,y0,x1,y1>', 'flow-free rectangle in px whose mean displacement is removed (camera shake)')
     .option('--format <list>', 'output formats, any of npy,h5,vti,mat,csv,png,svg', DEFAULT_FORMATS)
     .option('--figure-width <mm>', 'print width of the figures in mm (with --dpi; default: 800 px wide)')
@@ -46,6 +47,7 @@ export function addDisplacementOptions(cmd: Command): Command {
     .option('--ref-page <n>', 'page of a multi-page TIFF reference (0-based)')
     .option('--meas-page <n>', 'page of a multi-page TIFF measurement (0-based)')
     .option('--force', 'replace the results rhofield wrote in --out earlier (other files are never touched)')
+    .option('--accept-mismatch', 'keep the result even when the two images do not show the same background (refused by default: fewer than 10 % of vectors with a correlation peak ≥ 0.5 and ≥ 25 % flagged by the median test)')
     .option('--json', 'print a machine summary (result.json) on stdout')
     .option('--quiet', 'no progress messages (a progress bar appears only on a terminal, after ~1 s)')
     .option('--verbose', 'more messages, stack traces on errors');
@@ -77,6 +79,7 @@ export function pairOptionsFromCli(o: PairCliOpts): PairOptions {
     ...(flowFreeRegionPx ? { flowFreeRegionPx } : {}),
     formats: o.format ?? DEFAULT_FORMATS,
     ...(threads !== undefined ? { threads } : {}),
+    ...(o.acceptMismatch ? { acceptMismatch: true } : {}),
   };
 }
 
@@ -115,7 +118,6 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
   const out = await OutputDir.open(o.out, !!o.force, { command: kind, expect: ['result.json'] });
   const progress = new StageProgress(o);
   try {
-    log.info(`rhofield ${kind}: ${ref} → ${meas}`);
     const summary = await processPair(
       { refPath: ref, measPath: meas, ...(refPage !== undefined ? { refPage } : {}), ...(measPage !== undefined ? { measPage } : {}), options },
       out.staging,
@@ -124,6 +126,8 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
         log.debug(`stage: ${stage}`);
       },
     );
+    // the banner only once the inputs (images, mask, the pair's match, the setup) passed their checks
+    log.info(`rhofield ${kind}: ${ref} → ${meas}`);
     progress.stage('moving results into place', 0.99);
     log.debug('stage: moving results into place');
     await out.commit();
@@ -174,7 +178,7 @@ ${EXIT_CODES_HELP}`,
     .description('measure displacement, then reconstruct density (and temperature) with the optical setup')
     .argument('<ref>', 'reference image (no flow)')
     .argument('<meas>', 'measurement image (through the flow), same size')
-    .requiredOption('--setup <file>', 'setup file (JSON: camera, geometry, medium, flow; SI units)')
+    .requiredOption('--setup <file>', 'setup file (JSON: camera, geometry, medium, flow; SI units; at most 1 MiB and 32 levels deep)')
     .requiredOption('--out <dir>', 'output folder (new, or any folder: results go in beside other files; --force replaces earlier results)');
   addDisplacementOptions(r)
     .addHelpText(

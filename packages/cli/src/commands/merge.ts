@@ -4,6 +4,7 @@
  */
 import path from 'node:path';
 import type { Command } from 'commander';
+import { RhofieldError } from '@rhofield/core';
 import { EXIT, Log, storageError } from '../common.js';
 import { mergeBatch } from '../batch/runner.js';
 
@@ -12,6 +13,13 @@ interface MergeOpts {
   quiet?: boolean;
   verbose?: boolean;
   force?: boolean;
+}
+
+/** Messages name the folder as the user typed it, not its absolute path. */
+function asTyped(e: unknown, dir: string): unknown {
+  if (!(e instanceof RhofieldError)) return e;
+  const abs = path.resolve(dir);
+  return abs === dir ? e : new RhofieldError(e.kind, e.message.split(abs + path.sep).join(path.join(dir, path.sep)).split(abs).join(dir));
 }
 
 export function register(program: Command): void {
@@ -27,7 +35,7 @@ export function register(program: Command): void {
     .action(async (dir: string, o: MergeOpts) => {
       const log = new Log(o);
       // a full or read-only disk names the batch folder, never the statistics' staging folder
-      const r = await mergeBatch(dir).catch((e: unknown) => Promise.reject(storageError(e, 'batch folder', dir)));
+      const r = await mergeBatch(dir).catch((e: unknown) => Promise.reject(asTyped(storageError(e, 'batch folder', dir), dir)));
       log.info(`merged ${r.shards} shard(s): statistics over ${r.pairsUsed} of ${r.pairsTotal} pairs in ${r.folder}`);
       if (r.failed.length) log.warn(`${r.failed.length} pair(s) are missing from the statistics (failed): ${r.failed.slice(0, 10).join(', ')}${r.failed.length > 10 ? ', …' : ''}`);
       log.json({ command: 'merge', dir: path.resolve(dir), ...r });

@@ -16,8 +16,10 @@ import {
   recommendDotDiameter,
   MAX_PNG_PIXELS,
   RhofieldError,
+  setupWarnings,
 } from '@rhofield/core';
-import { EXIT_CODES_HELP, Log, parseIntOpt, parseNumOpt, writeOutputFiles } from '../common.js';
+import { EXIT_CODES_HELP, Log, parseIntOpt, parseNumOpt, requireFile, writeOutputFiles } from '../common.js';
+import { withSetupFile } from '../inputChecks.js';
 
 interface PatternOpts {
   width?: string;
@@ -66,16 +68,25 @@ export function register(program: Command): void {
       let height = o.height !== undefined ? parseLength('--height', o.height) : undefined;
       let dot = o.dot !== undefined ? parseLength('--dot', o.dot) : undefined;
       let dotNote = '';
+      let setupNotes: string[] = [];
       if (o.setup) {
+        requireFile('setup file', o.setup);
         const s = loadSetup(o.setup);
         if (s.camera.fNumber === undefined) throw invalidParameter(`${o.setup}: camera.fNumber`, 'the f-number (needed to size the dots)', undefined);
-        const adv = recommendDotDiameter({
-          focalLength: s.camera.focalLength,
-          fNumber: s.camera.fNumber,
-          pixelPitch: s.camera.pixelPitch,
-          lensToBackground: s.geometry.lensToBackground,
-          wavelength: s.medium.wavelength,
-        });
+        const fNumber = s.camera.fNumber;
+        let adv: ReturnType<typeof recommendDotDiameter>;
+        try {
+          adv = recommendDotDiameter({
+            focalLength: s.camera.focalLength,
+            fNumber,
+            pixelPitch: s.camera.pixelPitch,
+            lensToBackground: s.geometry.lensToBackground,
+            wavelength: s.medium.wavelength,
+          });
+        } catch (e) {
+          throw withSetupFile(e, o.setup);
+        }
+        setupNotes = setupWarnings(s, o.setup);
         if (dot === undefined) {
           dot = adv.dotDiameter;
           dotNote = `dot ${(dot * 1e3).toFixed(2)} mm chosen for a ${adv.dotImagePx.toFixed(2)} px dot image (diffraction ${adv.diffractionPx.toFixed(2)} px)`;
@@ -99,6 +110,7 @@ export function register(program: Command): void {
       const pat = generatePattern({ width, height, dotDiameter: dot, seed, ...(fill !== undefined ? { fill } : {}) });
       const bytes = ext === '.svg' ? patternToSvg(pat) : ext === '.pdf' ? patternToPdf(pat) : await patternToPng(pat, dpi);
       await writeOutputFiles([{ path: o.out, data: bytes }], !!o.force, '--out');
+      for (const w of setupNotes) log.warn(w);
       if (dotNote) log.info(dotNote);
       log.info(
         `wrote ${o.out}: ${(width * 1e3).toFixed(1)} × ${(height * 1e3).toFixed(1)} mm, ${pat.count} dots of ${(dot * 1e3).toFixed(3)} mm, fill ${pat.achievedFill.toFixed(4)}, seed ${seed}` +

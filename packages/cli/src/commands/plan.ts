@@ -3,8 +3,9 @@
  * displacement, sensitivity, blur, dot and window advice, verdict). Table on stderr, --json on stdout.
  */
 import type { Command } from 'commander';
-import { formatPlan, loadSetup, planSetup } from '@rhofield/core';
+import { formatPlan, loadSetup, planSetup, setupWarnings, type SetupPlan } from '@rhofield/core';
 import { EXIT_CODES_HELP, Log, parseNumOpt, requireFile } from '../common.js';
+import { withSetupFile } from '../inputChecks.js';
 
 /** Safety caution shown in --help of commands that plan or imitate real experiments. */
 export const SAFETY_HELP = `
@@ -25,7 +26,7 @@ export function register(program: Command): void {
   program
     .command('plan')
     .description('Predict what a planned setup will measure, before building it: magnification, fields of view, expected displacement, smallest detectable gradient, blur, printed dot size, window size, and the one change that would help most.')
-    .requiredOption('--setup <file>', 'setup file (JSON, DESIGN §3a); needs camera.fNumber, camera.sensorPx and expected')
+    .requiredOption('--setup <file>', 'setup file (JSON, at most 1 MiB and 32 levels deep, see docs/input-checks.md); needs camera.fNumber, camera.sensorPx and expected')
     .option('--noise <px>', 'displacement noise of the correlation, px (default 0.05, common practice)')
     .option('--fill <fraction>', 'fill fraction of the printed pattern used for the window advice (default 0.4)')
     .option('--json', 'print the plan as JSON on stdout')
@@ -39,7 +40,13 @@ export function register(program: Command): void {
       const fill = parseNumOpt('--fill', o.fill, 1e-6, 0.5);
       requireFile('setup file', o.setup);
       const setup = loadSetup(o.setup);
-      const pl = planSetup(setup, { ...(noisePx !== undefined ? { noisePx } : {}), ...(fill !== undefined ? { fill } : {}) });
+      let pl: SetupPlan;
+      try {
+        pl = planSetup(setup, { ...(noisePx !== undefined ? { noisePx } : {}), ...(fill !== undefined ? { fill } : {}) });
+      } catch (e) {
+        throw withSetupFile(e, o.setup);
+      }
+      for (const w of setupWarnings(setup, o.setup)) log.warn(w);
       log.info(formatPlan(pl).trimEnd());
       // hot plumes and flames: one caution line (ΔT ≥ 100 K is flame or hot-surface territory)
       if (pl.temperatureChange !== null && Math.abs(pl.temperatureChange) >= 100) {

@@ -14,6 +14,7 @@ import {
   loadSetup,
   obliqueShockAngle,
   saveImage16,
+  setupWarnings,
   simulateSetup,
   type SimulationFieldKind,
   type SimulationResult,
@@ -21,6 +22,7 @@ import {
 import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, provenance, requireFile, type GlobalOpts } from '../common.js';
 import { SAFETY_HELP } from './plan.js';
 import { checkMemory, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
+import { withSetupFile } from '../inputChecks.js';
 
 interface SimulateOpts extends GlobalOpts {
   setup: string;
@@ -112,7 +114,7 @@ export function register(program: Command): void {
     .description(
       'Dry run of a planned setup: render the reference and disturbed dot images it would record for a known density field (planar Gaussian hot spot, axisymmetric plume, or a wedge with oblique shocks), blurred by the setup\'s defocus, measure displacement and density from them, and report the error of the whole chain.',
     )
-    .requiredOption('--setup <file>', 'setup file (JSON, DESIGN §3a) with camera.fNumber, camera.sensorPx and expected (Δρ or ΔT and lengthScale)')
+    .requiredOption('--setup <file>', 'setup file (JSON, see docs/input-checks.md) with camera.fNumber, camera.sensorPx and expected (Δρ or ΔT and lengthScale)')
     .requiredOption('--field <kind>', `known density field: ${SIMULATION_FIELD_KINDS.join(', ')} (gaussian and plume use expected; shock a wedge, see --mach, --wedge)`)
     .option('--size <px>', 'side of the simulated square image crop, px, 64–2048 (default 256)')
     .option('--window <px>', 'final interrogation window, px: a power of two 16–128 (default: the plan\'s)')
@@ -181,7 +183,7 @@ ${EXIT_CODES_HELP}`,
           ...(windowPx !== undefined ? { windowPx } : {}),
           ...(mach !== undefined ? { mach } : {}),
           ...(wedge !== undefined ? { wedgeHalfAngleDeg: wedge } : {}),
-        });
+        }).catch((e: unknown) => Promise.reject(withSetupFile(e, o.setup)));
         const s = summary(r, { setupFile: o.setup, sizePx, seed, noise, ...(o.out ? { out: o.out } : {}) });
         if (out) {
           await saveImage16(r.reference, out.file('reference.png'));
@@ -195,7 +197,7 @@ ${EXIT_CODES_HELP}`,
           await out.commit();
         }
         log.info(table(r, sizePx));
-        for (const w of warnings(r)) log.warn(w);
+        for (const w of [...setupWarnings(setup, o.setup), ...warnings(r)]) log.warn(w);
         if (field === 'shock') {
           log.info('note: the planner models a Gaussian disturbance; for the shock compare true and measured only');
           log.info('caution: supersonic and pressurised facilities: follow the facility\'s rules and local codes (see --help)');

@@ -40,8 +40,13 @@ function readField(dir: string, name: string): Field {
   const f = path.join(dir, name);
   if (!existsSync(f)) throw inputError(`result folder ${dir} is missing ${name}; rerun the command that made it with --format including npy`);
   const a = decodeNpy(readFileSync(f), f);
+  if (a.shape.length !== 2) throw inputError(`${f} holds a ${a.shape.length}-dimensional array, expected rows×cols; rerun the command that made ${dir}`);
   const [h, w] = a.shape as [number, number];
-  return { width: w, height: h, data: Float32Array.from(a.data as ArrayLike<number>) };
+  const data = Float32Array.from(a.data as ArrayLike<number>);
+  let finite = 0;
+  for (let i = 0; i < data.length; i++) if (Number.isFinite(data[i]!)) finite++;
+  if (finite === 0) throw inputError(`${f} holds no finite value (all ${data.length} are NaN or infinite): nothing to show; check the measurement that made ${dir} (mask, images)`);
+  return { width: w, height: h, data };
 }
 
 function readVec(dir: string, name: string): Float64Array {

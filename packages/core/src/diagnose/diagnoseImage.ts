@@ -33,7 +33,7 @@ export type FindingLevel = 'ok' | 'warning' | 'unusable';
 
 /** One checked quantity with advice. */
 export interface Finding {
-  readonly key: 'diameter' | 'dots' | 'contrast' | 'clipping' | 'noise' | 'focus' | 'shift' | 'correlation' | 'size';
+  readonly key: 'diameter' | 'dots' | 'contrast' | 'clipping' | 'noise' | 'focus' | 'shift' | 'correlation' | 'size' | 'match';
   readonly level: FindingLevel;
   /** What was found, one line. */
   readonly message: string;

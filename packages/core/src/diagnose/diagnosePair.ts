@@ -8,6 +8,7 @@ import { invalidParameter } from '../util/errors.js';
 import type { DisplacementField } from '../correlate/types.js';
 import { diagnoseImage, type DiagnoseOptions, type Finding, type ImageDiagnosis } from './diagnoseImage.js';
 import { globalShift, type GlobalShift } from './globalShift.js';
+import { assessPairMatch, type PairMatch } from './pairMismatch.js';
 
 /** Options of {@link diagnosePair}. */
 export interface DiagnosePairOptions extends DiagnoseOptions {
@@ -28,6 +29,8 @@ export interface PairDiagnosis {
   readonly brightnessRatio: number;
   /** Fraction of windows with peak ratio < weakPeakRatio or no peak; null without a displacement field. */
   readonly weakPeakFraction: number | null;
+  /** Do the images show the same background? null without a displacement field. */
+  readonly match: PairMatch | null;
   readonly usable: boolean;
   /** Pair findings (the per-image findings are in reference/measurement). */
   readonly findings: readonly Finding[];
@@ -81,6 +84,10 @@ export function diagnosePair(ref: Field, meas: Field, opts: DiagnosePairOptions 
       );
     }
   }
+  const match = opts.displacement ? assessPairMatch(opts.displacement) : null;
+  if (match?.mismatched) {
+    F.push({ key: 'match', level: 'unusable', message: `the images do not show the same background: ${match.reason}`, advice: 'check that the reference belongs to this measurement (same camera, same background, same run)' });
+  }
   const usable = reference.usable && measurement.usable && !F.some((f) => f.level === 'unusable');
-  return { reference, measurement, shift, brightnessRatio, weakPeakFraction: weak, usable, findings: F };
+  return { reference, measurement, shift, brightnessRatio, weakPeakFraction: weak, match, usable, findings: F };
 }

@@ -10,3 +10,5 @@ export type { GlobalShift } from './globalShift.js';
 export { globalShift } from './globalShift.js';
 export type { DiagnosePairOptions, PairDiagnosis } from './diagnosePair.js';
 export { diagnosePair } from './diagnosePair.js';
+export type { PairMatch, MaskCoverage } from './pairMismatch.js';
+export { assessPairMatch, assessMaskCoverage, STRONG_CORRELATION, MISMATCH_MAX_STRONG_SHARE, MISMATCH_MIN_FLAGGED_SHARE, MISMATCH_MIN_VECTORS, MIN_UNMASKED_SHARE } from './pairMismatch.js';

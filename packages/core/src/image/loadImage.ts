@@ -15,11 +15,14 @@
  * - Accepted formats: PNG, TIFF, JPEG. Anything else sharp can read (WebP, GIF, …) is rejected so
  *   the counts are always those of a camera-style greyscale format.
  * - Pages are 0-based.
+ * - Before decoding, {@link checkImageIntegrity} verifies PNG chunk checksums and that every TIFF
+ *   strip or tile lies inside the file: the decoder accepts both kinds of damage silently.
  */
 import { stat } from 'node:fs/promises';
 import sharp from 'sharp';
 import type { Metadata } from 'sharp';
-import { inputError } from '../util/errors.js';
+import { inputError, RhofieldError } from '../util/errors.js';
+import { checkImageIntegrity } from './checkIntegrity.js';
 import type { Field } from '../util/field.js';
 
 /** Image file formats the loader accepts. */
@@ -56,11 +59,14 @@ export interface LoadImageOptions {
 
 const FORMATS: readonly string[] = ['png', 'tiff', 'jpeg'];
 
+/** Largest page the loader decodes, px: libvips' default input limit (0x3FFF²), about 268 Mpx. */
+export const MAX_IMAGE_PIXELS = 0x3fff * 0x3fff;
+
 function firstLine(e: unknown): string {
   return String((e as Error)?.message ?? e).split('\n')[0]!.trim();
 }
 
-async function checkFile(path: string): Promise<void> {
+async function checkFile(path: string): Promise<number> {
   let size: number;
   try {
     const s = await stat(path);
@@ -71,6 +77,7 @@ async function checkFile(path: string): Promise<void> {
     throw inputError(`${path} does not exist; check the path`);
   }
   if (size === 0) throw inputError(`${path} is empty (0 bytes); re-export or copy the image again`);
+  return size;
 }
 
 /**
@@ -83,6 +90,10 @@ async function checkFile(path: string): Promise<void> {
  */
 export async function loadImageInfo(path: string): Promise<ImageInfo> {
   await checkFile(path);
+  return headerInfo(path);
+}
+
+async function headerInfo(path: string): Promise<ImageInfo> {
   let m: Metadata;
   try {
     m = await sharp(path).metadata();
@@ -114,12 +125,31 @@ export async function loadImageInfo(path: string): Promise<ImageInfo> {
  * @param path image file: 8/16-bit PNG, 8/16-bit TIFF (multi-page allowed), JPEG; colour → luminance.
  * @param options `page`: 0-based page of a multi-page TIFF (default 0).
  * @returns the grey {@link Field} (0–255 or 0–65535) with width, height, bitDepth, pages, format.
- * @throws RhofieldError (input), one line naming the file and the fix: missing, empty, truncated or
- *   unreadable file; unsupported format; bit depth other than 8/16; page out of range.
+ * @throws RhofieldError (input), one line naming the file and the fix: missing, empty, truncated,
+ *   damaged (PNG checksum, TIFF strip past the end) or unreadable file; unsupported format; bit depth other than 8/16; page out of range.
  * @example const { field, bitDepth } = await loadImage('ref.tif', { page: 3 });
  */
 export async function loadImage(path: string, options: LoadImageOptions = {}): Promise<LoadedImage> {
-  const info = await loadImageInfo(path);
+  const size = await checkFile(path);
+  // The integrity check reads the bytes on this thread while the decoder works on its own threads; a
+  // damaged file is reported as damaged even when the decoder also fails (its message is vaguer).
+  const integrity = checkImageIntegrity(path, size).then(
+    () => null,
+    (e: unknown) => (e instanceof RhofieldError ? e : inputError(`${path} could not be read (${firstLine(e)}); check the file and its permissions`)),
+  );
+  let img: LoadedImage;
+  try {
+    img = await decodeImage(path, options);
+  } catch (e) {
+    throw (await integrity) ?? e;
+  }
+  const damage = await integrity;
+  if (damage) throw damage;
+  return img;
+}
+
+async function decodeImage(path: string, options: LoadImageOptions): Promise<LoadedImage> {
+  const info = await headerInfo(path);
   const page = options.page ?? 0;
   if (!Number.isInteger(page) || page < 0 || page >= info.pages) {
     throw inputError(
@@ -127,6 +157,9 @@ export async function loadImage(path: string, options: LoadImageOptions = {}): P
     );
   }
   const n = info.width * info.height;
+  if (n > MAX_IMAGE_PIXELS) {
+    throw inputError(`${path} claims ${info.width}×${info.height} px, more than the ${MAX_IMAGE_PIXELS} px the loader takes (the decoder's limit); crop the image, or check whether the header is damaged`);
+  }
   const data = new Float32Array(n);
   try {
     let img = sharp(path, { page, failOn: 'truncated' });

@@ -23,7 +23,7 @@
  *   span `W = √π·L` applied to the planar maximum gradient.
  * Isobaric temperature change: `ρ = p/(R·T)` so `Δρ = ρ0·(T0/(T0 + ΔT) − 1)`, `T0 = p/(R·ρ0)`.
  */
-import { invalidParameter } from '../util/errors.js';
+import { RhofieldError, invalidParameter } from '../util/errors.js';
 import { mediumConstants } from '../optics/medium.js';
 import type { PlanSetupInput } from './types.js';
 import { recommendDotDiameter } from './recommendDotDiameter.js';
@@ -211,6 +211,7 @@ export function planSetup(setup: PlanSetupInput, opts: PlanOptions = {}): SetupP
   const geoImgPx = (M * dot) / p;
   const perPx2 = fill / ((Math.PI * geoImgPx * geoImgPx) / 4);
   const needW = Math.sqrt(10 / perPx2);
+  if (!Number.isFinite(needW)) throw notFinite('window needed for 10 dots', needW, `camera.fNumber, medium.wavelength, ${OPTICS}`);
   const windowPx = WINDOWS.find((w) => w >= Math.max(16, needW)) ?? 128;
   const firstWindowPx = WINDOWS.find((w) => w >= Math.max(windowPx, 4 * dMax)) ?? 128;
   const disturbancePx = 2 * Lpx;
@@ -265,7 +266,7 @@ export function planSetup(setup: PlanSetupInput, opts: PlanOptions = {}): SetupP
     advice = `no change needed: peak displacement ${dMax.toFixed(2)} px is ${snr.toFixed(0)}× the ${noisePx} px noise`;
   }
 
-  return {
+  const plan: SetupPlan = {
     noisePx,
     model,
     magnification: M,
@@ -303,4 +304,50 @@ export function planSetup(setup: PlanSetupInput, opts: PlanOptions = {}): SetupP
     advice,
     notes,
   };
+  requireFinitePlan(plan);
+  return plan;
+}
+
+const OPTICS = 'camera.focalLength, camera.pixelPitch, geometry.lensToBackground, geometry.flowToBackground';
+const SIGNAL = `medium (gas or gladstoneDale), flow.span, expected.densityChange or temperatureChange, expected.lengthScale, ${OPTICS}`;
+/** The setup keys each planned quantity is computed from (for the message when it is not finite). */
+const PLAN_SOURCES: Readonly<Partial<Record<keyof SetupPlan, string>>> = {
+  magnification: OPTICS,
+  lensToFlow: OPTICS,
+  backgroundPixelSize: OPTICS,
+  fieldOfViewBackground: `camera.sensorPx, ${OPTICS}`,
+  fieldOfViewFlow: `camera.sensorPx, ${OPTICS}`,
+  flowPixelSize: OPTICS,
+  apertureDiameter: 'camera.focalLength, camera.fNumber',
+  flowBlur: `camera.fNumber, ${OPTICS}`,
+  flowBlurPx: `camera.fNumber, ${OPTICS}`,
+  diffractionBlur: 'camera.fNumber, medium.wavelength, camera.focalLength, geometry.lensToBackground',
+  diffractionBlurPx: 'camera.fNumber, medium.wavelength, camera.pixelPitch',
+  densityChange: 'expected.densityChange or expected.temperatureChange, medium.referenceDensity, medium.pressure',
+  lengthScale: 'expected.lengthScale',
+  effectiveSpan: 'flow.span, expected.lengthScale',
+  maxDensityGradient: 'expected.densityChange or temperatureChange, expected.lengthScale',
+  maxDeflection: SIGNAL,
+  maxDisplacementPx: SIGNAL,
+  maxDisplacementGradient: SIGNAL,
+  signalToNoise: SIGNAL,
+  minDetectableDeflection: OPTICS,
+  minDetectableGradient: `medium (gas or gladstoneDale), flow.span, ${OPTICS}`,
+  recommendedDotDiameter: `camera.fNumber, medium.wavelength, ${OPTICS}`,
+  dotImageDiameterPx: `camera.fNumber, medium.wavelength, ${OPTICS}`,
+  disturbancePx: `expected.lengthScale, ${OPTICS}`,
+  windowsAcrossDisturbance: `expected.lengthScale, ${OPTICS}`,
+};
+
+function notFinite(what: string, value: string | number, keys: string): RhofieldError {
+  return new RhofieldError('usage', `the planned ${what} is ${value}, not a finite number; check the setup keys it comes from (${keys}) and their units (SI: metres, kg/m³, K)`);
+}
+
+/** Every planned number must be finite: extreme inputs (1e300 m, 1e-300 m) overflow the formulas. */
+function requireFinitePlan(plan: SetupPlan): void {
+  for (const [k, keys] of Object.entries(PLAN_SOURCES)) {
+    const v = plan[k as keyof SetupPlan] as unknown;
+    const values = Array.isArray(v) ? (v as number[]) : typeof v === 'number' ? [v] : [];
+    if (values.some((x) => !Number.isFinite(x))) throw notFinite(k, values.join(' × '), keys);
+  }
 }

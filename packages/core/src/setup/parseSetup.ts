@@ -1,9 +1,13 @@
 /**
- * Read and validate a setup (DESIGN §3a). Structural checks by zod (strict objects), then the
- * cross-field physics checks; every failure is one line "expected X for <key path> but received Z"
+ * Read and validate a setup. Structural checks by zod (strict objects), then the cross-field physics
+ * checks and the derived optical quantities (magnification, pixel sizes, displacement per radian), which
+ * must be finite and positive; every failure is one line "expected X for <key path> but received Z"
  * naming the source (file name or "setup").
+ *
+ * A setup file is at most {@link MAX_SETUP_BYTES} bytes and nested at most {@link MAX_SETUP_DEPTH}
+ * levels (a real setup uses 4): larger or deeper files are refused before they are parsed.
  */
-import { readFileSync } from 'node:fs';
+import { readFileSync, statSync } from 'node:fs';
 import type { z } from 'zod';
 import { invalidParameter, inputError, RhofieldError } from '../util/errors.js';
 
@@ -12,6 +16,13 @@ function described(name: string, expected: string, receivedText: string, fix?: s
   return new RhofieldError('usage', `expected ${expected} for ${name} but received ${receivedText}` + (fix ? `; ${fix}` : ''));
 }
 import { setupSchema, type Setup } from './schema.js';
+
+/** Largest setup file read, bytes (1 MiB; a real setup is under 1 kB). */
+export const MAX_SETUP_BYTES = 1 << 20;
+/** Deepest nesting of objects and arrays in a setup file (a real setup uses 4 levels). */
+export const MAX_SETUP_DEPTH = 32;
+/** Distances beyond this (m) draw a warning from {@link setupWarnings}: a likely unit slip. */
+export const FAR_DISTANCE_M = 1000;
 
 type Issue = z.core.$ZodIssue;
 
@@ -114,7 +125,116 @@ export function parseSetup(json: unknown, source = 'setup'): Setup {
     const v = expected.densityChange ?? expected.temperatureChange;
     if (v === 0) throw invalidParameter(at(expected.densityChange !== undefined ? 'expected.densityChange' : 'expected.temperatureChange'), 'a non-zero change', 0);
   }
+  checkDerived(s, source);
   return s;
+}
+
+/**
+ * The optical quantities every command derives from a setup must be finite and positive: magnification
+ * M = f/(Z_B − f), background-plane pixel p/M, flow-plane pixel p·Z_A·(Z_B − f)/(f·Z_B) and the
+ * displacement per radian M·Z_D/p. Extreme but finite inputs (1e300 m) overflow them.
+ */
+function checkDerived(s: Setup, source: string): void {
+  const f = s.camera.focalLength;
+  const p = s.camera.pixelPitch;
+  const zb = s.geometry.lensToBackground;
+  const zd = s.geometry.flowToBackground;
+  const M = f / (zb - f);
+  const derived: Array<[string, number]> = [
+    ['the magnification f/(Z_B − f)', M],
+    ['the background-plane pixel size p/M', p / M],
+    ['the flow-plane pixel size', (p * (zb - zd) * (zb - f)) / (f * zb)],
+    ['the displacement per radian of deflection M·Z_D/p', (M * zd) / p],
+    ['the deflection per pixel p/(M·Z_D)', p / (M * zd)],
+  ];
+  for (const [what, v] of derived) {
+    if (!(Number.isFinite(v) && v > 0)) {
+      throw new RhofieldError(
+        'usage',
+        `${source}: camera.focalLength ${f}, camera.pixelPitch ${p}, geometry.lensToBackground ${zb} and geometry.flowToBackground ${zd} give ${what} = ${v}, which is not a finite positive number; check these values and their unit (metres)`,
+      );
+    }
+  }
+}
+
+/**
+ * Plain-language warnings about a valid setup that is probably not what was meant: distances beyond
+ * {@link FAR_DISTANCE_M} (large outdoor setups exist, so this is not an error) and an origin outside the
+ * image.
+ * @param setup a validated setup.
+ * @param source file name used in the messages.
+ * @param image the image size, px (default camera.sensorPx when given).
+ */
+export function setupWarnings(setup: Setup, source = 'setup', image?: { width: number; height: number }): string[] {
+  const out: string[] = [];
+  const far: Array<[string, number | undefined]> = [
+    ['geometry.lensToBackground', setup.geometry.lensToBackground],
+    ['geometry.flowToBackground', setup.geometry.flowToBackground],
+    ['flow.span', setup.flow.type === 'planar' ? setup.flow.span : undefined],
+    ['expected.lengthScale', setup.expected?.lengthScale],
+    ['camera.focalLength', setup.camera.focalLength],
+  ];
+  for (const [key, v] of far) {
+    if (v !== undefined && v > FAR_DISTANCE_M) out.push(`${source}: ${key} is ${v} m, beyond ${FAR_DISTANCE_M / 1000} km; lengths are in metres, check the unit`);
+  }
+  const size = image ?? (setup.camera.sensorPx ? { width: setup.camera.sensorPx[0], height: setup.camera.sensorPx[1] } : undefined);
+  const o = setup.geometry.originPx;
+  if (o && size && !(o[0] >= 0 && o[0] <= size.width - 1 && o[1] >= 0 && o[1] <= size.height - 1)) {
+    out.push(`${source}: geometry.originPx [${o[0]}, ${o[1]}] lies outside the ${size.width}×${size.height} px image; the metre coordinates start off the picture, check the value`);
+  }
+  return out;
+}
+
+/**
+ * Deepest nesting of arrays and objects in a JSON text, by a scan of brackets outside strings (stops
+ * counting once `limit` is passed). Cheap, and safe on input that would overflow a recursive parser.
+ */
+export function jsonDepth(text: string, limit = Infinity): number {
+  let depth = 0;
+  let max = 0;
+  let inString = false;
+  for (let i = 0; i < text.length; i++) {
+    const c = text.charCodeAt(i);
+    if (inString) {
+      if (c === 0x5c) i++;
+      else if (c === 0x22) inString = false;
+    } else if (c === 0x22) inString = true;
+    else if (c === 0x7b || c === 0x5b) {
+      depth++;
+      if (depth > max) {
+        max = depth;
+        if (max > limit) return max;
+      }
+    } else if (c === 0x7d || c === 0x5d) depth--;
+  }
+  return max;
+}
+
+/**
+ * Where JSON.parse fails, for the messages that do not say (V8's "Unexpected token …"): the longest
+ * prefix that is only incomplete (it fails at its very end) ends at the bad character. Binary search,
+ * about 20 parses.
+ */
+function syntaxErrorPosition(text: string): number {
+  const incomplete = (p: number): boolean => {
+    try {
+      JSON.parse(text.slice(0, p));
+      return true;
+    } catch (e) {
+      const msg = (e as Error).message;
+      if (/Unexpected end of JSON input/.test(msg)) return true;
+      const at = /at position (\d+)/.exec(msg);
+      return at !== null && Number(at[1]) >= p;
+    }
+  };
+  let lo = 0;
+  let hi = text.length;
+  while (lo < hi) {
+    const mid = (lo + hi + 1) >> 1;
+    if (incomplete(mid)) lo = mid;
+    else hi = mid - 1;
+  }
+  return lo;
 }
 
 function lineColumn(text: string, pos: number): { line: number; column: number } {
@@ -132,19 +252,28 @@ function lineColumn(text: string, pos: number): { line: number; column: number }
 /**
  * Read a setup file (JSON) and validate it with {@link parseSetup}.
  * @param path file path.
- * @throws RhofieldError (kind "input") naming the file when it cannot be read or is not valid JSON
- *   (with line and column), or the validation error of {@link parseSetup}.
+ * @throws RhofieldError (kind "input") naming the file when it cannot be read, is larger than
+ *   {@link MAX_SETUP_BYTES}, nested deeper than {@link MAX_SETUP_DEPTH} or not valid JSON (with line and
+ *   column), or the validation error of {@link parseSetup}.
  */
 export function loadSetup(path: string): Setup {
   let text: string;
   try {
+    const size = statSync(path).size;
+    if (size > MAX_SETUP_BYTES) {
+      throw inputError(`setup file ${path} is ${size} bytes, more than a setup can be (${MAX_SETUP_BYTES} bytes); give the small JSON setup file (camera, geometry, medium, flow)`);
+    }
     text = readFileSync(path, 'utf8');
   } catch (e) {
+    if (e instanceof RhofieldError) throw e;
     const code = (e as NodeJS.ErrnoException).code;
     const why = code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'it is a directory' : code === 'EACCES' ? 'permission denied' : String((e as Error).message);
     throw inputError(`cannot read setup file ${path}: ${why}; check the path`);
   }
   if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
+  if (jsonDepth(text, MAX_SETUP_DEPTH) > MAX_SETUP_DEPTH) {
+    throw inputError(`setup file ${path} is nested more than ${MAX_SETUP_DEPTH} levels deep; a setup has 4 (see the README for its form)`);
+  }
   let json: unknown;
   try {
     json = JSON.parse(text);
@@ -154,8 +283,15 @@ export function loadSetup(path: string): Setup {
     const lc = /line (\d+) column (\d+)/.exec(msg);
     let where: { line: number; column: number };
     if (lc) where = { line: Number(lc[1]), column: Number(lc[2]) };
-    else where = lineColumn(text, m ? Number(m[1]) : text.length);
-    const detail = msg.replace(/ in JSON at position \d+.*$/, '').replace(/ \(line \d+ column \d+\)$/, '');
+    else where = lineColumn(text, m ? Number(m[1]) : syntaxErrorPosition(text));
+    // one line: drop the position and the excerpt of the text that some messages quote (it may span lines)
+    const detail = msg
+      .replace(/ in JSON at position \d+[\s\S]*$/, '')
+      .replace(/ \(line \d+ column \d+\)$/, '')
+      .replace(/, (?:\.\.\.)?"[\s\S]*$/, '')
+      .replace(/'\r?\n'/, 'line break')
+      .replace(/\s+/g, ' ')
+      .replace(/[\u0000-\u001f\u007f]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
     throw inputError(`setup file ${path} is not valid JSON at line ${where.line}, column ${where.column}: ${detail}; fix the syntax there`);
   }
   return parseSetup(json, path);

@@ -15,6 +15,7 @@ export class RhofieldError extends Error {
 }
 
 function show(v: unknown): string {
+  if (v === undefined) return 'nothing';
   if (typeof v === 'string') return JSON.stringify(v);
   if (typeof v === 'number' || typeof v === 'boolean' || v === null || v === undefined) return String(v);
   try {
