@@ -53,7 +53,7 @@ export function checkMeasuredPair(
     if (!opts.acceptMismatch) throw inputError(`${what}; check that both images show the same background, or pass ${ACCEPT_MISMATCH_OPTION} to keep the result`);
     warnings.push(`${what}; kept because of ${ACCEPT_MISMATCH_OPTION}`);
   }
-  if (opts.setup) warnings.push(...setupWarnings(opts.setup, files.setupPath ?? 'setup', { width: opts.width, height: opts.height }));
+  if (opts.setup) for (const w of setupWarnings(opts.setup, files.setupPath ?? 'setup', { width: opts.width, height: opts.height })) warnings.push(w);
   return warnings;
 }
 

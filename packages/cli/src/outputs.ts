@@ -87,7 +87,7 @@ export function installSignalCleanup(): void {
     }
     state.interrupted = code;
     const cleanAll = (): void => {
-      for (const x of [...live]) {
+      for (const x of Array.from(live)) {
         try {
           x.cleanupSync();
         } catch {
@@ -560,9 +560,9 @@ export class OutputDir implements Cleanable {
       const fresh: ManifestEntry[] = [];
       for (const n of names) fresh.push(await entryOf(this.staging, n));
       const newSet = new Set(names);
-      const keep = this.mode === 'add' ? [...owned.values()].filter((e) => !newSet.has(e.name)) : [];
-      const remove = this.mode === 'replace' ? [...owned.keys()].filter((n) => !newSet.has(n)) : [];
-      const journal = [...owned.values(), ...fresh];
+      const keep = this.mode === 'add' ? Array.from(owned.values()).filter((e) => !newSet.has(e.name)) : [];
+      const remove = this.mode === 'replace' ? Array.from(owned.keys()).filter((n) => !newSet.has(n)) : [];
+      const journal = Array.from(owned.values()).concat(fresh);
       const tmp = path.join(this.staging, `${MANIFEST_NAME}.next`);
       const manifest = path.join(this.target, MANIFEST_NAME);
       enterCommit();
@@ -571,7 +571,7 @@ export class OutputDir implements Cleanable {
         await fsp.rename(tmp, manifest);
         for (const n of names) await fsp.rename(path.join(this.staging, n), path.join(this.target, n));
         for (const n of remove) await fsp.rm(path.join(this.target, n), { force: true });
-        const final = [...keep, ...fresh].sort((a, b) => a.name.localeCompare(b.name));
+        const final = keep.concat(fresh).sort((a, b) => a.name.localeCompare(b.name));
         // adding to a set whose own commit was interrupted leaves it marked as such
         const finalState = this.mode === 'add' && m?.state === 'committing' ? 'committing' : 'complete';
         await fsp.writeFile(tmp, manifestText(this.mode === 'add' && m ? m.command : this.command, finalState, final));

@@ -197,7 +197,7 @@ ${EXIT_CODES_HELP}`,
           await out.commit();
         }
         log.info(table(r, sizePx));
-        for (const w of [...setupWarnings(setup, o.setup), ...warnings(r)]) log.warn(w);
+        for (const w of setupWarnings(setup, o.setup).concat(warnings(r))) log.warn(w);
         if (field === 'shock') {
           log.info('note: the planner models a Gaussian disturbance; for the shock compare true and measured only');
           log.info('caution: supersonic and pressurised facilities: follow the facility\'s rules and local codes (see --help)');

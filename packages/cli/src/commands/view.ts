@@ -128,7 +128,7 @@ async function runView(kindRaw: string, dir: string, o: ViewOpts): Promise<void>
   if (!named || existsSync(path.join(into, MANIFEST_NAME))) {
     // into a result folder: the figures join its list of files rhofield wrote (a file rhofield did not
     // write is never replaced, unless the user named it with --out and passed --force)
-    const names = [path.basename(base), ...(svgName ? [path.basename(svgName)] : [])];
+    const names = svgName ? [path.basename(base), path.basename(svgName)] : [path.basename(base)];
     const folder = await OutputDir.open(into, !!o.force, { command: 'view', mode: 'add', expect: names, label: named ? '--out' : 'result folder', ...(named ? { named: names } : {}) });
     try {
       await folder.writeFile(names[0]!, await fig.png());
@@ -140,7 +140,7 @@ async function runView(kindRaw: string, dir: string, o: ViewOpts): Promise<void>
     }
   } else {
     // a file the user named (and the SVG beside it): replaced only with --force
-    await writeOutputFiles([{ path: base, data: await fig.png() }, ...(svgName ? [{ path: svgName, data: fig.svg }] : [])], !!o.force, '--out');
+    await writeOutputFiles([{ path: base, data: await fig.png() } as { path: string; data: string | Uint8Array }].concat(svgName ? [{ path: svgName, data: fig.svg }] : []), !!o.force, '--out');
   }
   log.info(`wrote ${base}`);
   log.json({ kind, file: base, source: what, unit });
