@@ -1,13 +1,18 @@
 /**
  * rhofield command-line entry. Thin layer: parses arguments, calls @rhofield/core, writes files.
- * Each command lives in ./commands/<name>.ts and exports `register(program)`.
+ * Each command lives in ./commands/<name>.ts and exports `register(program)`; only the module of the
+ * command that runs is loaded (./commands/index.ts).
  */
-import { Command, CommanderError } from 'commander';
-import { VERSION } from '@rhofield/core';
+import { Command, CommanderError, Help } from 'commander';
+import { VERSION } from '@rhofield/core/setup';
 import { EXIT, EXIT_CODES_HELP, reportError } from './common.js';
-import { commands } from './commands/index.js';
+import { registerCommands, requestedCommand } from './commands/index.js';
 
-export function buildProgram(): Command {
+/**
+ * The program with the command `argv` asks for registered (all commands with `which: 'all'`); the
+ * others are listed in the help only.
+ */
+export async function buildProgram(argv: readonly string[] | 'all' = 'all'): Promise<Command> {
   const program = new Command();
   program
     .name('rhofield')
@@ -23,15 +28,17 @@ export function buildProgram(): Command {
   program.configureOutput({
     writeErr: (s) => process.stderr.write(s.startsWith('error:') ? 'rhofield: ' + s : s),
   });
-  for (const register of commands) register(program);
+  const stubs = await registerCommands(program, argv === 'all' ? 'all' : requestedCommand(argv));
+  const term = Help.prototype.subcommandTerm;
+  program.configureHelp({ subcommandTerm: (cmd) => stubs.get(cmd) ?? term.call(program.createHelp(), cmd) });
   for (const c of program.commands) c.exitOverride();
   return program;
 }
 
 /** Run the CLI with the given argv (without node and script). Returns the exit code. */
 export async function run(argv: string[]): Promise<number> {
-  const program = buildProgram();
   try {
+    const program = await buildProgram(argv);
     await program.parseAsync(argv, { from: 'user' });
     return typeof process.exitCode === 'number' ? process.exitCode : EXIT.ok;
   } catch (err) {
@@ -46,7 +53,7 @@ export async function run(argv: string[]): Promise<number> {
 const isMain = (() => {
   const arg = process.argv[1];
   if (!arg) return false;
-  return arg.endsWith('main.ts') || arg.endsWith('rhofield.js') || arg.endsWith('rhofield');
+  return arg.endsWith('main.ts') || arg.endsWith('main.js');
 })();
 
 if (isMain) {

@@ -5,6 +5,7 @@
  */
 import { existsSync, mkdirSync, promises as fsp } from 'node:fs';
 import path from 'node:path';
+import { fileURLToPath } from 'node:url';
 import type { Command } from 'commander';
 import cliProgress from 'cli-progress';
 import {
@@ -56,8 +57,11 @@ export interface BatchOpts {
 const FORMATS: readonly string[] = FIELD_SET_FORMATS;
 const DEFAULTS = { windowPx: 32, passes: 3, formats: DEFAULT_FORMATS.split(',') };
 
-/** The CLI entry of the bin shim, used in emitted job scripts. */
-const BIN = new URL('../../bin/rhofield.js', import.meta.url).pathname;
+/**
+ * The compiled command (dist/bin/rhofield.js of this package), used in emitted job scripts; from the
+ * sources (tests) that is the built one next to them (`pnpm build`).
+ */
+const BIN = fileURLToPath(new URL(/\.ts$/.test(import.meta.url) ? '../../dist/bin/rhofield.js' : '../bin/rhofield.js', import.meta.url));
 
 function parseFormats(raw: string | undefined): string[] {
   if (raw === undefined) return DEFAULTS.formats;

@@ -3,7 +3,7 @@
  * displacement, sensitivity, blur, dot and window advice, verdict). Table on stderr, --json on stdout.
  */
 import type { Command } from 'commander';
-import { formatPlan, loadSetup, planSetup } from '@rhofield/core';
+import { formatPlan, loadSetup, planSetup } from '@rhofield/core/setup';
 import { EXIT_CODES_HELP, Log, parseNumOpt, requireFile } from '../common.js';
 
 /** Safety caution shown in --help of commands that plan or imitate real experiments. */

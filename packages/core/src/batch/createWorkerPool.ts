@@ -3,7 +3,7 @@
  * worker per core, each task single-threaded (`threads: 1`), so pools never nest.
  *
  * Lives in core because piscina is a dependency of this package. TypeScript worker files need the
- * tsx loader passed through `execArgv` (`['--import', <resolved tsx URL>]`) by the caller.
+ * tsx loader through `execArgv`: the callers take both from workerScript (util/workerScript.ts).
  */
 import { Piscina } from 'piscina';
 

@@ -17,7 +17,7 @@
  * - Pages are 0-based.
  */
 import { stat } from 'node:fs/promises';
-import sharp from 'sharp';
+import { loadSharp } from '../util/optionalModules.js';
 import type { Metadata } from 'sharp';
 import { inputError } from '../util/errors.js';
 import type { Field } from '../util/field.js';
@@ -83,6 +83,7 @@ async function checkFile(path: string): Promise<void> {
  */
 export async function loadImageInfo(path: string): Promise<ImageInfo> {
   await checkFile(path);
+  const sharp = await loadSharp();
   let m: Metadata;
   try {
     m = await sharp(path).metadata();
@@ -128,6 +129,7 @@ export async function loadImage(path: string, options: LoadImageOptions = {}): P
   }
   const n = info.width * info.height;
   const data = new Float32Array(n);
+  const sharp = await loadSharp();
   try {
     let img = sharp(path, { page, failOn: 'truncated' });
     if (info.channels === 2 || info.channels === 4) img = img.removeAlpha();
