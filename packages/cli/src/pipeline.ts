@@ -11,6 +11,7 @@ import {
   displacementFieldSet,
   fieldToNpy,
   inputError,
+  kernelStatus,
   loadImage,
   loadMask,
   measureDisplacement,
@@ -178,6 +179,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
         }
       : {}),
     warnings: [...(density?.warnings ?? [])],
+    kernels: kernelStatus(),
     timingsSeconds: timings,
   };
   await fsp.writeFile(path.join(outDir, 'result.json'), JSON.stringify(summary, null, 2) + '\n');

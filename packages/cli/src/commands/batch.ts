@@ -23,6 +23,7 @@ import {
 } from '@rhofield/core';
 import { EXIT, Log, parseIntOpt, provenance, sha256File, writeFileAtomic } from '../common.js';
 import { DEFAULT_FORMATS } from '../pipeline.js';
+import { warnSlowKernels } from '../kernelWarning.js';
 import { pairOptionsFromCli } from './displacement.js';
 import { resolveFrames } from '../batch/frames.js';
 import { jobScript } from '../batch/jobScript.js';
@@ -211,6 +212,7 @@ export async function batchCommand(o: BatchOpts, executorFactory?: (workers: num
 
   const shard = resolveShard(o);
   const workers = workerCount(o);
+  warnSlowKernels(log);
   log.debug(`${jobs.length} pairs (${mode} pairing, frames from a ${framesKind === 'stack' ? 'multi-page stack' : framesKind === 'file' ? 'single file' : `${framesKind} pattern`}); ${workers} worker(s)${shard ? `; shard ${shard.index}/${shard.count}` : ''}`);
 
   const showBar = !!process.stderr.isTTY && !o.quiet && !o.json && !o.verbose;

@@ -6,6 +6,7 @@ import type { Command } from 'commander';
 import { describeSchedule, invalidParameter, loadSetup, RhofieldError } from '@rhofield/core';
 import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, requireFile, StageProgress, type GlobalOpts } from '../common.js';
 import { DEFAULT_FORMATS, processPair, type PairOptions } from '../pipeline.js';
+import { warnSlowKernels } from '../kernelWarning.js';
 
 interface PairCliOpts extends GlobalOpts {
   out: string;
@@ -91,6 +92,7 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
   const refPage = parseIntOpt('--ref-page', o.refPage, 0);
   const measPage = parseIntOpt('--meas-page', o.measPage, 0);
   const out = await OutputDir.open(o.out, !!o.force);
+  warnSlowKernels(log);
   const progress = new StageProgress(o);
   try {
     log.info(`rhofield ${kind}: ${ref} → ${meas}`);

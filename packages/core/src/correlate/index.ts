@@ -8,3 +8,5 @@ export { windowGrid } from './windowGrid.js';
 export { gaussianPeak3 } from './gaussianPeak3.js';
 export { normalizedMedianTest, replaceByNeighbourMedian } from './normalizedMedianTest.js';
 export { closeWorkers } from './workerPool.js';
+export type { KernelStatus } from './simdKernels.js';
+export { kernelStatus } from './simdKernels.js';
