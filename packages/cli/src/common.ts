@@ -9,7 +9,7 @@ import { createHash } from 'node:crypto';
 import { createReadStream, existsSync, promises as fsp, readFileSync, statSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import path from 'node:path';
-import { RhofieldError, invalidParameter, VERSION } from '@rhofield/core/setup';
+import { RhofieldError, invalidParameter, VERSION } from '@rhofield/core/errors';
 
 export const EXIT = { ok: 0, failed: 1, usage: 2, unusable: 3 } as const;
 

@@ -4,7 +4,7 @@
  * command that runs is loaded (./commands/index.ts).
  */
 import { Command, CommanderError, Help } from 'commander';
-import { VERSION } from '@rhofield/core/setup';
+import { VERSION } from '@rhofield/core/errors';
 import { EXIT, EXIT_CODES_HELP, reportError } from './common.js';
 import { registerCommands, requestedCommand } from './commands/index.js';
 
