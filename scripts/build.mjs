@@ -3,7 +3,7 @@
 // copies the files tsc does not (core's kernels.wasm) next to their compiled modules. Incremental:
 // with nothing changed tsc only compares time stamps and the copy is skipped.
 import { spawnSync } from 'node:child_process';
-import { copyFileSync, mkdirSync, readFileSync, existsSync } from 'node:fs';
+import { chmodSync, copyFileSync, mkdirSync, readFileSync, existsSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -24,3 +24,6 @@ for (const [from, to] of ASSETS) {
   mkdirSync(path.dirname(dst), { recursive: true });
   copyFileSync(src, dst);
 }
+
+// the command runs directly too (./packages/cli/dist/bin/rhofield.js); npm sets this on install anyway
+chmodSync(path.join(root, 'packages/cli/dist/bin/rhofield.js'), 0o755);
