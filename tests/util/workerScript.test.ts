@@ -39,3 +39,33 @@ describe('workerScript', () => {
     expect((err as RhofieldError).message).toContain(missing);
   });
 });
+
+describe('createWorkerPool', () => {
+  it('a worker module that fails to load fails the tasks with one error naming it (no crash, no wait)', async () => {
+    const broken = path.join(tmp, 'broken.worker.js');
+    writeFileSync(broken, 'export default 1 +;\n'); // a syntax error
+    const { createWorkerPool } = await import('@rhofield/core');
+    const pool = createWorkerPool(pathToFileURL(broken).href, 2);
+    try {
+      const runs = [pool.run({}), pool.run({}), pool.run({})];
+      for (const r of runs) {
+        await expect(r).rejects.toThrow(RhofieldError);
+        await expect(r).rejects.toThrow(`cannot start a worker thread from ${broken} (Unexpected token`);
+      }
+    } finally {
+      await pool.destroy();
+    }
+  });
+
+  it('a working worker module runs the tasks', async () => {
+    const ok = path.join(tmp, 'ok.worker.mjs');
+    writeFileSync(ok, 'export default (t) => t.n * 2;\n');
+    const { createWorkerPool } = await import('@rhofield/core');
+    const pool = createWorkerPool(pathToFileURL(ok).href, 2);
+    try {
+      expect(await Promise.all([1, 2, 3].map((n) => pool.run({ n })))).toEqual([2, 4, 6]);
+    } finally {
+      await pool.destroy();
+    }
+  });
+});

@@ -7,3 +7,4 @@ export { createRng } from './rng.js';
 export { VERSION } from './version.js';
 export type { WorkerScript } from './workerScript.js';
 export { siblingWorkerUrl, workerScript } from './workerScript.js';
+export { checkWorkerStarts } from './workerScript.js';
