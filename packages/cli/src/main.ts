@@ -3,6 +3,8 @@
  * Each command lives in ./commands/<name>.ts and exports `register(program)`; only the module of the
  * command that runs is loaded (./commands/index.ts).
  */
+import { realpathSync } from 'node:fs';
+import { pathToFileURL } from 'node:url';
 import { Command, CommanderError, Help } from 'commander';
 import { VERSION } from '@rhofield/core/errors';
 import { EXIT, EXIT_CODES_HELP, reportError } from './common.js';
@@ -50,10 +52,15 @@ export async function run(argv: string[]): Promise<number> {
   }
 }
 
+/** Run directly (`node dist/main.js`, `tsx src/main.ts`), not imported (the bin and scripts import it). */
 const isMain = (() => {
   const arg = process.argv[1];
   if (!arg) return false;
-  return arg.endsWith('main.ts') || arg.endsWith('main.js');
+  try {
+    return pathToFileURL(realpathSync(arg)).href === import.meta.url;
+  } catch {
+    return false;
+  }
 })();
 
 if (isMain) {
