@@ -8,6 +8,7 @@
  * Environment: RHOFIELD_BENCH_STARTUP_RUNS (rounds, default 15, at least 10). `pnpm bench` builds first.
  */
 import { spawnSync } from 'node:child_process';
+import os from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 
@@ -41,6 +42,8 @@ function once(args: string[]): number {
 
 export async function run(): Promise<Record<string, unknown>> {
   const rounds = Math.max(10, Number(process.env['RHOFIELD_BENCH_STARTUP_RUNS']) || 15);
+  // the machine is shared: absolute times scale with its load, the ratios much less
+  const loadAvg1mAtStart = +os.loadavg()[0]!.toFixed(2);
   const times: Record<string, number[]> = Object.fromEntries(Object.keys(COMMANDS).map((k) => [k, []]));
   for (const k of Object.keys(COMMANDS)) once(COMMANDS[k]!); // warm the file cache
   for (let i = 0; i < rounds; i++) {
@@ -51,13 +54,15 @@ export async function run(): Promise<Record<string, unknown>> {
   const ratio = (k: string): number => +(med[k]! / bare).toFixed(2);
   const result = {
     rounds,
+    loadAvg1mAtStart,
+    cpus: os.cpus().length,
     medianSeconds: med,
     ratioToNodeBare: { help: ratio('help'), plan: ratio('plan'), importCore: ratio('importCore') },
     targetSeconds: TARGET_S,
     meetsTarget: med['help']! <= TARGET_S && med['plan']! <= TARGET_S,
   };
   process.stderr.write(
-    `startup, median of ${rounds} fresh processes each (alternating):\n` +
+    `startup, median of ${rounds} fresh processes each (alternating; 1-min load ${loadAvg1mAtStart} on ${os.cpus().length} cores):\n` +
       `  node -e 0                      ${bare.toFixed(3)} s\n` +
       `  rhofield --help                ${med['help']!.toFixed(3)} s  (${ratio('help')}× node -e 0)\n` +
       `  rhofield plan --setup demo     ${med['plan']!.toFixed(3)} s  (${ratio('plan')}× node -e 0)\n` +
