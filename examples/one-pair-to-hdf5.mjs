@@ -1,9 +1,9 @@
 // One image pair → density → HDF5, as a lab script would do it with the rhofield library.
 //
-//   node --import tsx examples/one-pair-to-hdf5.mjs [REF] [MEAS] [SETUP] [OUT.h5]
+//   node examples/one-pair-to-hdf5.mjs [REF] [MEAS] [SETUP] [OUT.h5]
 //
 // Defaults process the bundled demo pair (a synthetic heated-plate plume) into out/example/demo.h5.
-// The library ships TypeScript sources, so run the script with the tsx loader as above (or `npx tsx`).
+// Plain Node runs it against the built package (`pnpm build` in a checkout, or the installed tarball).
 // Open the result in Python with h5py (`h5py.File('out/example/demo.h5')['rho']`) or in MATLAB with h5read.
 import { mkdir } from 'node:fs/promises';
 import path from 'node:path';

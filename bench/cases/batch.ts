@@ -21,7 +21,7 @@ import { writeSequence } from '../../tests/batch/synthFrames.js';
 export const name = 'batch';
 
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..');
-const BIN = path.join(ROOT, 'packages/cli/bin/rhofield.js');
+const BIN = path.join(ROOT, 'packages/cli/dist/bin/rhofield.js');
 
 function env(key: string, dflt: number): number {
   const v = Number(process.env[key]);

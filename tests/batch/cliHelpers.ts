@@ -6,7 +6,7 @@ import { fileURLToPath } from 'node:url';
 import { decodeNpy } from '@rhofield/core';
 
 export const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..');
-export const BIN = path.join(ROOT, 'packages/cli/bin/rhofield.js');
+export const BIN = path.join(ROOT, 'packages/cli/dist/bin/rhofield.js');
 
 /** Run `rhofield ARGS` to completion. */
 export function rhofield(args: string[], env: Record<string, string> = {}): { code: number; stdout: string; stderr: string } {

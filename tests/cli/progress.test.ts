@@ -12,10 +12,11 @@ const root = path.resolve(import.meta.dirname, '../..');
 const tmp = mkdtempSync(path.join(os.tmpdir(), 'rhofield-progress-'));
 afterAll(() => rmSync(tmp, { recursive: true, force: true }));
 const hasScript = existsSync('/usr/bin/script');
-const tsx = path.join(root, 'node_modules/.bin/tsx');
+// the built command, as installed (`pnpm test` builds first)
+const bin = path.join(root, 'packages/cli/dist/bin/rhofield.js');
 
 function demo(out: string): string[] {
-  return [tsx, 'packages/cli/src/main.ts', 'displacement', 'fixtures/demo/reference.png', 'fixtures/demo/measurement.png', '--out', out];
+  return [process.execPath, bin, 'displacement', 'fixtures/demo/reference.png', 'fixtures/demo/measurement.png', '--out', out];
 }
 
 describe('progress bar', () => {

@@ -139,7 +139,7 @@ describe('TypeScript fallback (RHOFIELD_KERNELS=js)', () => {
       console.log(JSON.stringify({ dx: Array.from(r.dxPx.data), dy: Array.from(r.dyPx.data) }));
       await closeWorkers();`;
     const run = (kernels: string): { dx: number[]; dy: number[] } => {
-      const r = spawnSync(process.execPath, ['--import', 'tsx', '--input-type=module', '-e', script], {
+      const r = spawnSync(process.execPath, ['--conditions=rhofield-source', '--import', 'tsx', '--input-type=module', '-e', script], {
         env: { ...process.env, RHOFIELD_KERNELS: kernels },
         encoding: 'utf8',
         cwd: fileURLToPath(new URL('../..', import.meta.url)),

@@ -1,6 +1,6 @@
 /**
- * The runnable examples in examples/ run here as a user would run them (a separate Node process with the
- * tsx loader), and their output files are read back by an independent reader (h5py).
+ * The runnable examples in examples/ run here as a user would run them (a separate plain Node process,
+ * against the built package: `pnpm test` builds first), and their output files are read back by an independent reader (h5py).
  */
 import { spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync } from 'node:fs';
@@ -16,7 +16,7 @@ afterAll(() => rmSync(tmp, { recursive: true, force: true }));
 describe('examples/one-pair-to-hdf5.mjs', () => {
   it.skipIf(skipWithoutPython(['numpy', 'h5py']))('processes the demo pair and writes an HDF5 file h5py reads: density in kg/m^3 with metre coordinates', () => {
     const out = path.join(tmp, 'demo.h5');
-    const r = spawnSync(process.execPath, ['--import', 'tsx', 'examples/one-pair-to-hdf5.mjs', 'fixtures/demo/reference.png', 'fixtures/demo/measurement.png', 'fixtures/demo/setup.json', out], {
+    const r = spawnSync(process.execPath, ['examples/one-pair-to-hdf5.mjs', 'fixtures/demo/reference.png', 'fixtures/demo/measurement.png', 'fixtures/demo/setup.json', out], {
       cwd: root,
       encoding: 'utf8',
       timeout: 110_000,

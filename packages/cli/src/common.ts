@@ -6,9 +6,10 @@
  * 3 (`check` only) images unusable for measurement.
  */
 import { createHash } from 'node:crypto';
-import { createReadStream, existsSync, promises as fsp, statSync } from 'node:fs';
+import { createReadStream, existsSync, promises as fsp, readFileSync, statSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
 import path from 'node:path';
-import { RhofieldError, invalidParameter, VERSION } from '@rhofield/core';
+import { RhofieldError, invalidParameter, VERSION } from '@rhofield/core/errors';
 import { withOptionNames } from './optionNames.js';
 
 export const EXIT = { ok: 0, failed: 1, usage: 2, unusable: 3 } as const;
@@ -129,41 +130,46 @@ export async function writeFileAtomic(file: string, data: string | Uint8Array): 
   await writeOutputFiles([{ path: file, data }], true);
 }
 
-/** The git commit of the checkout the tool runs from, when available. */
-export function gitCommit(): string | null {
+/**
+ * The git commit of the rhofield checkout the tool runs from, or "unknown" (an installed package has
+ * no checkout). Only the checkout this package sits in counts (packages/cli of a workspace with
+ * pnpm-workspace.yaml), never a repository that merely contains an installed copy. Handles a `.git`
+ * folder and the `.git` file of a worktree, loose and packed refs.
+ */
+export function gitCommit(): string {
   try {
-    let dir = path.dirname(new URL(import.meta.url).pathname);
-    for (let i = 0; i < 8; i++) {
-      const head = path.join(dir, '.git', 'HEAD');
-      if (existsSync(head)) {
-        const ref = require_read(head).trim();
-        if (ref.startsWith('ref: ')) {
-          const refFile = path.join(dir, '.git', ref.slice(5));
-          if (existsSync(refFile)) return require_read(refFile).trim();
-          const packed = path.join(dir, '.git', 'packed-refs');
-          if (existsSync(packed)) {
-            const line = require_read(packed).split('\n').find((l) => l.endsWith(' ' + ref.slice(5)));
-            if (line) return line.split(' ')[0] ?? null;
-          }
-          return null;
-        }
-        return ref;
-      }
-      dir = path.dirname(dir);
+    // src/common.ts or dist/common.js → packages/cli → the workspace root
+    const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../..');
+    if (!existsSync(path.join(root, 'pnpm-workspace.yaml')) || !existsSync(path.join(root, 'packages/cli/package.json'))) return 'unknown';
+    let gitDir = path.join(root, '.git');
+    if (!existsSync(gitDir)) return 'unknown';
+    if (statSync(gitDir).isFile()) {
+      const m = /^gitdir: (.+)$/m.exec(readFileSync(gitDir, 'utf8'));
+      if (!m?.[1]) return 'unknown';
+      gitDir = path.resolve(root, m[1].trim());
+    }
+    const head = readFileSync(path.join(gitDir, 'HEAD'), 'utf8').trim();
+    if (!head.startsWith('ref: ')) return head;
+    const ref = head.slice(5);
+    // a worktree keeps its HEAD but shares refs with the main repository (commondir)
+    const common = existsSync(path.join(gitDir, 'commondir')) ? path.resolve(gitDir, readFileSync(path.join(gitDir, 'commondir'), 'utf8').trim()) : gitDir;
+    for (const dir of [gitDir, common]) {
+      const refFile = path.join(dir, ref);
+      if (existsSync(refFile)) return readFileSync(refFile, 'utf8').trim();
+    }
+    const packed = path.join(common, 'packed-refs');
+    if (existsSync(packed)) {
+      const line = readFileSync(packed, 'utf8').split('\n').find((l) => l.endsWith(' ' + ref));
+      if (line) return line.split(' ')[0] ?? 'unknown';
     }
   } catch {
-    /* no git: fine */
+    /* no readable git metadata: unknown */
   }
-  return null;
-}
-
-import { readFileSync } from 'node:fs';
-function require_read(f: string): string {
-  return readFileSync(f, 'utf8');
+  return 'unknown';
 }
 
 /** Provenance block common to every result.json. */
-export function provenance(): { tool: string; version: string; gitCommit: string | null; node: string; createdUtc: string } {
+export function provenance(): { tool: string; version: string; gitCommit: string; node: string; createdUtc: string } {
   return { tool: 'rhofield', version: VERSION, gitCommit: gitCommit(), node: process.version, createdUtc: new Date().toISOString() };
 }
 
@@ -177,7 +183,8 @@ export async function timed<T>(timings: Record<string, number>, stage: string, f
   }
 }
 
-import cliProgress from 'cli-progress';
+import type cliProgress from 'cli-progress';
+import { createRequire } from 'node:module';
 
 /**
  * A stage progress bar for single-pair work: shown on stderr only when it is a terminal, not under CI,
@@ -199,9 +206,11 @@ export class StageProgress {
     }
   }
   private show(): void {
-    this.bar = new cliProgress.SingleBar(
+    // loaded when a bar is first shown (short runs and --help do not pay for it)
+    const bars = createRequire(import.meta.url)('cli-progress') as typeof cliProgress;
+    this.bar = new bars.SingleBar(
       { format: 'rhofield {bar} {percentage}% | {stage} | {duration_formatted}', stream: process.stderr, hideCursor: true, clearOnComplete: true },
-      cliProgress.Presets.shades_classic,
+      bars.Presets.shades_classic,
     );
     this.bar.start(100, Math.round(this.fraction * 100), { stage: this.name });
   }

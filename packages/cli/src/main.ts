@@ -1,14 +1,21 @@
 /**
  * rhofield command-line entry. Thin layer: parses arguments, calls @rhofield/core, writes files.
- * Each command lives in ./commands/<name>.ts and exports `register(program)`.
+ * Each command lives in ./commands/<name>.ts and exports `register(program)`; only the module of the
+ * command that runs is loaded (./commands/index.ts).
  */
-import { Command, CommanderError } from 'commander';
-import { VERSION } from '@rhofield/core';
+import { realpathSync } from 'node:fs';
+import { pathToFileURL } from 'node:url';
+import { Command, CommanderError, Help } from 'commander';
+import { VERSION } from '@rhofield/core/errors';
 import { EXIT, EXIT_CODES_HELP, reportError } from './common.js';
-import { commands } from './commands/index.js';
+import { registerCommands, requestedCommand } from './commands/index.js';
 import { installSignalCleanup } from './outputs.js';
 
-export function buildProgram(): Command {
+/**
+ * The program with the command `argv` asks for registered (all commands with `which: 'all'`); the
+ * others are listed in the help only.
+ */
+export async function buildProgram(argv: readonly string[] | 'all' = 'all'): Promise<Command> {
   const program = new Command();
   program
     .name('rhofield')
@@ -24,15 +31,17 @@ export function buildProgram(): Command {
     // one line: the parser's message and where the usage is
     writeErr: (s) => process.stderr.write(s.startsWith('error:') ? `rhofield: ${s.trim().replace(/\s*\n\s*/g, ' ')}; run with --help for usage\n` : s),
   });
-  for (const register of commands) register(program);
+  const stubs = await registerCommands(program, argv === 'all' ? 'all' : requestedCommand(argv));
+  const term = Help.prototype.subcommandTerm;
+  program.configureHelp({ subcommandTerm: (cmd) => stubs.get(cmd) ?? term.call(program.createHelp(), cmd) });
   for (const c of program.commands) c.exitOverride();
   return program;
 }
 
 /** Run the CLI with the given argv (without node and script). Returns the exit code. */
 export async function run(argv: string[]): Promise<number> {
-  const program = buildProgram();
   try {
+    const program = await buildProgram(argv);
     await program.parseAsync(argv, { from: 'user' });
     return typeof process.exitCode === 'number' ? process.exitCode : EXIT.ok;
   } catch (err) {
@@ -44,10 +53,15 @@ export async function run(argv: string[]): Promise<number> {
   }
 }
 
+/** Run directly (`node dist/main.js`, `tsx src/main.ts`), not imported (the bin and scripts import it). */
 const isMain = (() => {
   const arg = process.argv[1];
   if (!arg) return false;
-  return arg.endsWith('main.ts') || arg.endsWith('rhofield.js') || arg.endsWith('rhofield');
+  try {
+    return pathToFileURL(realpathSync(arg)).href === import.meta.url;
+  } catch {
+    return false;
+  }
 })();
 
 if (isMain) {

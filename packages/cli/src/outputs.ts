@@ -29,7 +29,7 @@ import { createHash } from 'node:crypto';
 import { constants as fsc, createReadStream, existsSync, lstatSync, promises as fsp, readdirSync, rmdirSync, rmSync, statSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
-import { RhofieldError, VERSION, invalidParameter } from '@rhofield/core';
+import { RhofieldError, VERSION, invalidParameter } from '@rhofield/core/errors';
 
 /** Name of the manifest inside a results folder. */
 export const MANIFEST_NAME = '.rhofield-manifest.json';
@@ -65,7 +65,7 @@ interface Cleanable {
 }
 
 const live = new Set<Cleanable>();
-const state = { interrupted: 0, committing: 0, afterCommit: null as (() => void) | null };
+const state = { interrupted: 0, committing: 0, afterCommit: null as (() => void) | null, installed: false };
 
 function interruptedError(): RhofieldError {
   return new RhofieldError('processing', 'interrupted; no results were written');
@@ -78,6 +78,8 @@ function interruptedError(): RhofieldError {
  * only, never by code the in-process tests run.
  */
 export function installSignalCleanup(): void {
+  if (state.installed) return;
+  state.installed = true;
   const onSignal = (sig: 'SIGINT' | 'SIGTERM'): void => {
     const code = sig === 'SIGINT' ? 130 : 143;
     if (state.interrupted) {

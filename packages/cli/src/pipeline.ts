@@ -11,6 +11,7 @@ import {
   displacementFieldSet,
   fieldToNpy,
   inputError,
+  kernelStatus,
   loadImage,
   loadMask,
   measureDisplacement,
@@ -188,6 +189,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
         }
       : {}),
     warnings: inputWarnings.concat(disp.warnings, density?.warnings ?? []),
+    kernels: kernelStatus(),
     timingsSeconds: timings,
   };
   await fsp.writeFile(path.join(outDir, 'result.json'), JSON.stringify(summary, null, 2) + '\n');

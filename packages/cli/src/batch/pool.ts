@@ -2,13 +2,11 @@
  * Where pairs run: a piscina worker pool (one worker per core by default, each pair with threads: 1 so
  * pools never nest), or the calling thread (tests).
  *
- * The pool is piscina, created by core's createWorkerPool; its workers start from workerEntry.mjs,
- * which registers the tsx loader in each thread (see createPairPool for why not execArgv).
+ * The pool is piscina, created by core's createWorkerPool; each worker starts from the task's worker
+ * module as core's workerScript decides (compiled `.js`, or `.ts` with the tsx loader from sources).
  */
-import { existsSync } from 'node:fs';
 import os from 'node:os';
-import { fileURLToPath } from 'node:url';
-import { RhofieldError, createWorkerPool } from '@rhofield/core';
+import { createWorkerPool, siblingWorkerUrl, workerScript } from '@rhofield/core';
 import type { PairExecutor, PairSummaryLike, PairWork, ProcessPairFn } from './types.js';
 import type { WorkerTask } from './types.js';
 
@@ -17,30 +15,23 @@ export function defaultWorkerCount(): number {
   return Math.max(1, typeof os.availableParallelism === 'function' ? os.availableParallelism() : os.cpus().length);
 }
 
-/** The worker module of the real pipeline (./worker.ts). */
-export const PIPELINE_WORKER = new URL('./worker.ts', import.meta.url).href;
-/** Plain-JS entry of every pool worker: registers tsx in the thread, then loads the task's module. */
-const WORKER_ENTRY = new URL('./workerEntry.mjs', import.meta.url).href;
+/** The worker module of the real pipeline (./worker.js, or ./worker.ts when running from sources). */
+export const PIPELINE_WORKER = siblingWorkerUrl(import.meta.url, 'worker');
 
 /**
  * A pool of `workers` worker threads (piscina, through core's createWorkerPool) running
  * `workerModule`, whose default export takes a {@link WorkerTask} and processes one pair.
- *
- * Deviation from the usual `execArgv: ['--import', tsx]` recipe (TOOLCHAIN §6): with h5wasm/node in
- * the worker's module graph that recipe fails (ERR_UNKNOWN_FILE_EXTENSION), so the workers start
- * from a plain-JS entry that calls tsx's `register()` itself (see workerEntry.mjs).
  * @param workers number of threads (≥ 1).
- * @param workerModule file URL of the worker module (default: ./worker.ts, the real pipeline).
+ * @param workerModule file URL of the worker module (default: the real pipeline's worker).
+ * @throws RhofieldError naming the worker module when it is missing.
  */
 export function createPairPool(workers: number, workerModule: string = PIPELINE_WORKER): PairExecutor {
-  if (workerModule.startsWith('file:') && !existsSync(fileURLToPath(workerModule))) {
-    throw new RhofieldError('processing', `the per-pair worker ${fileURLToPath(workerModule)} is missing from this checkout; batch cannot process pairs`);
-  }
-  const pool = createWorkerPool(WORKER_ENTRY, workers);
+  const { filename, execArgv } = workerScript(workerModule);
+  const pool = createWorkerPool(filename, workers, execArgv);
   return {
     concurrency: workers,
     run(job: PairWork, outDir: string): Promise<PairSummaryLike> {
-      const task: WorkerTask = { job, outDir, workerModule };
+      const task: WorkerTask = { job, outDir };
       return pool.run(task) as Promise<PairSummaryLike>;
     },
     async close(): Promise<void> {

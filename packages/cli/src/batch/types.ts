@@ -43,6 +43,4 @@ export type ProbeFn = (file: string, page?: number) => Promise<ImageProbe>;
 export interface WorkerTask {
   readonly job: PairWork;
   readonly outDir: string;
-  /** File URL of the TypeScript worker module that runs the task (set by the pool). */
-  readonly workerModule?: string;
 }

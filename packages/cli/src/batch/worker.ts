@@ -1,5 +1,5 @@
 /**
- * Pool worker of `rhofield batch` (loaded through workerEntry.mjs): runs the real per-pair pipeline
+ * Pool worker of `rhofield batch` (the pool's worker module): runs the real per-pair pipeline
  * for one task, single-threaded (the batch passes threads: 1, so pools never nest).
  */
 import { createDisplacementEngine } from '@rhofield/core';

@@ -5,6 +5,7 @@
  */
 import { existsSync, mkdirSync, promises as fsp } from 'node:fs';
 import path from 'node:path';
+import { fileURLToPath } from 'node:url';
 import type { Command } from 'commander';
 import cliProgress from 'cli-progress';
 import {
@@ -24,6 +25,7 @@ import {
 } from '@rhofield/core';
 import { EXIT, Log, parseIntOpt, provenance, sha256File, writeOutputFiles } from '../common.js';
 import { DEFAULT_FORMATS } from '../pipeline.js';
+import { warnSlowKernels } from '../kernelWarning.js';
 import { pairOptionsFromCli } from './displacement.js';
 import { resolveFrames } from '../batch/frames.js';
 import { jobScript } from '../batch/jobScript.js';
@@ -61,8 +63,11 @@ export interface BatchOpts {
 const FORMATS: readonly string[] = FIELD_SET_FORMATS;
 const DEFAULTS = { windowPx: 32, passes: 3, formats: DEFAULT_FORMATS.split(',') };
 
-/** The CLI entry of the bin shim, used in emitted job scripts. */
-const BIN = new URL('../../bin/rhofield.js', import.meta.url).pathname;
+/**
+ * The compiled command (dist/bin/rhofield.js of this package), used in emitted job scripts; from the
+ * sources (tests) that is the built one next to them (`pnpm build`).
+ */
+const BIN = fileURLToPath(new URL(/\.ts$/.test(import.meta.url) ? '../../dist/bin/rhofield.js' : '../bin/rhofield.js', import.meta.url));
 
 function parseFormats(raw: string | undefined): string[] {
   if (raw === undefined) return DEFAULTS.formats;
@@ -226,6 +231,7 @@ export async function batchCommand(o: BatchOpts, executorFactory?: (workers: num
     const total = CLI_PROCESS_BYTES + workers * (BATCH_WORKER_BYTES + pair.bytes);
     checkMemory(`${workers} worker(s) on pairs of ${head.width}×${head.height} px (${first.refPath})`, pair, budget, total, workers > 1 ? 'fewer --workers' : null);
   }
+  warnSlowKernels(log);
   log.debug(`${jobs.length} pairs (${mode} pairing, frames from a ${framesKind === 'stack' ? 'multi-page stack' : framesKind === 'file' ? 'single file' : `${framesKind} pattern`}); ${workers} worker(s)${shard ? `; shard ${shard.index}/${shard.count}` : ''}`);
 
   const showBar = !!process.stderr.isTTY && !o.quiet && !o.json && !o.verbose;

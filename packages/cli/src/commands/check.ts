@@ -7,6 +7,7 @@
 import type { Command } from 'commander';
 import { diagnoseImage, diagnosePair, inputError, invalidParameter, loadImage, measureDisplacement, type Field, type Finding } from '@rhofield/core';
 import { EXIT, EXIT_CODES_HELP, Log, parseIntOpt, parseNumOpt, requireFile } from '../common.js';
+import { warnSlowKernels } from '../kernelWarning.js';
 
 interface CheckOpts {
   window?: string;
@@ -50,6 +51,7 @@ export function register(program: Command): void {
       const maxValue = parseNumOpt('--saturation', o.saturation, 1e-12);
       requireFile('reference image', ref);
       if (meas) requireFile('measurement image', meas);
+      if (meas) warnSlowKernels(log);
       const a = await loadGrey(ref);
       const opts = { windowPx, ...(maxValue !== undefined ? { maxValue } : {}) };
       let usable: boolean;

@@ -7,6 +7,7 @@ import { capThreads, describeSchedule, estimateMemory, formatBytes, invalidParam
 import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, requireFile, StageProgress, type GlobalOpts } from '../common.js';
 import { DEFAULT_FORMATS, processPair, type PairOptions } from '../pipeline.js';
 import { checkMemory, imageHeaders, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
+import { warnSlowKernels } from '../kernelWarning.js';
 
 interface PairCliOpts extends GlobalOpts {
   out: string;
@@ -116,6 +117,7 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
   const refPage = parseIntOpt('--ref-page', o.refPage, 0);
   const measPage = parseIntOpt('--meas-page', o.measPage, 0);
   const out = await OutputDir.open(o.out, !!o.force, { command: kind, expect: ['result.json'] });
+  warnSlowKernels(log);
   const progress = new StageProgress(o);
   try {
     const summary = await processPair(

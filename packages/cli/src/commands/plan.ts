@@ -3,9 +3,9 @@
  * displacement, sensitivity, blur, dot and window advice, verdict). Table on stderr, --json on stdout.
  */
 import type { Command } from 'commander';
-import { formatPlan, loadSetup, planSetup, setupWarnings, type SetupPlan } from '@rhofield/core';
+import { formatPlan, loadSetup, planSetup, setupWarnings, type SetupPlan } from '@rhofield/core/setup';
 import { EXIT_CODES_HELP, Log, parseNumOpt, requireFile } from '../common.js';
-import { withSetupFile } from '../inputChecks.js';
+import { withSetupFile } from '../setupErrors.js';
 
 /** Safety caution shown in --help of commands that plan or imitate real experiments. */
 export const SAFETY_HELP = `

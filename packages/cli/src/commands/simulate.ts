@@ -23,6 +23,7 @@ import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, provenance, 
 import { SAFETY_HELP } from './plan.js';
 import { checkMemory, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
 import { withSetupFile } from '../inputChecks.js';
+import { warnSlowKernels } from '../kernelWarning.js';
 
 interface SimulateOpts extends GlobalOpts {
   setup: string;
@@ -145,6 +146,7 @@ ${EXIT_CODES_HELP}`,
         throw invalidParameter('--field', `one of ${SIMULATION_FIELD_KINDS.join(', ')}`, o.field);
       }
       const field = o.field as SimulationFieldKind;
+      warnSlowKernels(log);
       const sizePx = parseIntOpt('--size', o.size, 64, 2048) ?? 256;
       const windowPx = parseIntOpt('--window', o.window, 16, 128);
       if (windowPx !== undefined && (windowPx & (windowPx - 1)) !== 0) throw invalidParameter('--window', 'a power of two 16–128', o.window);

@@ -12,3 +12,5 @@ export type { DisplacementEngineOptions } from './displacementEngine.js';
 export { availableCores, capThreads } from './capThreads.js';
 export type { MemoryEstimate, MemoryEstimateInput } from './estimateMemory.js';
 export { CLI_PROCESS_BYTES, DENSITY_BYTES_PER_VECTOR, OUTPUT_BYTES_PER_VECTOR, WORKER_THREAD_BYTES, estimateMemory } from './estimateMemory.js';
+export type { KernelStatus } from './simdKernels.js';
+export { kernelStatus } from './simdKernels.js';

@@ -11,6 +11,7 @@
  * Measured on 2048² pairs (bench `displacement`, 2 threads): see DEVELOPERS.md.
  */
 import { readFileSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
 import { LANCZOS4_TABLE } from './lanczos.js';
 
 /** The parts of the WebAssembly JS API used here (the project's TypeScript libs do not declare it). */
@@ -83,21 +84,52 @@ export class SimdKernels {
   }
 }
 
-/** The compiled module (read-only once set): compiled once per thread, instantiated per workspace. */
+/**
+ * Which displacement kernels this process uses, and why: `simd` true for the WebAssembly SIMD kernels;
+ * false for the TypeScript fallback (about 3× slower), with `state` saying whether that was asked for
+ * (`RHOFIELD_KERNELS=js`), the kernels file is missing, or this Node.js cannot compile it. The CLI
+ * warns once on stderr and records it in result.json; a lab script can check it the same way.
+ */
+export interface KernelStatus {
+  readonly simd: boolean;
+  readonly state: 'simd' | 'js-requested' | 'wasm-missing' | 'wasm-unsupported';
+  /** One line for people, naming the file or the setting. */
+  readonly reason: string;
+}
+
 let module: object | null | undefined;
-/** This thread's default instance (for direct use of the kernels; engines create their own). */
+let status: KernelStatus | undefined;
 let instance: SimdKernels | null = null;
 
-function compiled(): object | null {
-  if (module === undefined) {
-    module = null;
-    if (process.env['RHOFIELD_KERNELS'] !== 'js') {
-      try {
-        module = new wasm.Module(readFileSync(new URL('./kernels.wasm', import.meta.url)));
-      } catch {
-        module = null; // no WebAssembly SIMD here: the TypeScript kernels do the work
-      }
-    }
+/** Compile kernels.wasm once per thread (null where unavailable or disabled); sets {@link status}. */
+function kernelModule(): object | null {
+  if (module !== undefined) return module;
+  module = null;
+  if (process.env['RHOFIELD_KERNELS'] === 'js') {
+    status = { simd: false, state: 'js-requested', reason: 'TypeScript kernels, as RHOFIELD_KERNELS=js asks' };
+    return module;
+  }
+  const file = new URL('./kernels.wasm', import.meta.url);
+  let bytes: Uint8Array;
+  try {
+    bytes = readFileSync(file);
+  } catch {
+    status = {
+      simd: false,
+      state: 'wasm-missing',
+      reason: `the WebAssembly kernels file ${fileURLToPath(file)} is missing: using the TypeScript kernels (about 3× slower); reinstall the package (in a checkout: pnpm build)`,
+    };
+    return module;
+  }
+  try {
+    module = new wasm.Module(bytes);
+    status = { simd: true, state: 'simd', reason: 'WebAssembly SIMD kernels (kernels.wasm)' };
+  } catch (e) {
+    status = {
+      simd: false,
+      state: 'wasm-unsupported',
+      reason: `${fileURLToPath(file)} cannot be compiled here (${e instanceof Error ? e.message : String(e)}): using the TypeScript kernels (about 3× slower); use Node.js ≥ 20.19 or reinstall the package`,
+    };
   }
   return module;
 }
@@ -107,13 +139,19 @@ function compiled(): object | null {
  * share kernel memory), or null where unavailable or disabled (`RHOFIELD_KERNELS=js`).
  */
 export function createSimdKernels(): SimdKernels | null {
-  const m = compiled();
+  const m = kernelModule();
   return m ? new SimdKernels(m) : null;
+}
+
+/** Which kernels the displacement engine uses in this process (see {@link KernelStatus}). */
+export function kernelStatus(): KernelStatus {
+  kernelModule();
+  return status as KernelStatus;
 }
 
 /** This thread's default SIMD kernels, or null where unavailable or disabled (`RHOFIELD_KERNELS=js`). */
 export function simdKernels(): SimdKernels | null {
-  const m = compiled();
+  const m = kernelModule();
   if (m && !instance) instance = new SimdKernels(m);
   return instance;
 }

@@ -3,12 +3,12 @@
  * here is shared between engines. Piscina unrefs idle workers, so an idle pool never keeps a process
  * alive; `engine.dispose()` ends the workers early.
  *
- * Workers are TypeScript modules: they get the tsx loader through `execArgv`
- * (`['--import', import.meta.resolve('tsx')]`, TOOLCHAIN §6), which works under tsx, vitest and the
- * CLI shim alike.
+ * The worker module and its Node arguments come from {@link workerScript} (compiled `.js` next to this
+ * file, or the `.ts` sibling with the tsx loader when running from the sources).
  */
 import { Piscina } from 'piscina';
 import { RhofieldError } from '../util/errors.js';
+import { siblingWorkerUrl, workerScript } from '../util/workerScript.js';
 import { chunkCount, runChunk, type EngineImages, type EngineTask, type EngineWorkspace } from './engine.js';
 import type { StageMessage } from './correlate.worker.js';
 
@@ -19,13 +19,14 @@ export class EnginePool {
 
   constructor(size: number) {
     this.size = size;
+    const { filename, execArgv } = workerScript(siblingWorkerUrl(import.meta.url, 'correlate.worker'));
     this.pool = new Piscina({
-      filename: new URL('./correlate.worker.ts', import.meta.url).href,
+      filename,
       minThreads: size,
       maxThreads: size,
       concurrentTasksPerWorker: 1,
       idleTimeout: 10 * 60_000,
-      execArgv: ['--import', import.meta.resolve('tsx')],
+      execArgv,
     });
   }
 

@@ -19,7 +19,7 @@
  *   strip or tile lies inside the file: the decoder accepts both kinds of damage silently.
  */
 import { stat } from 'node:fs/promises';
-import sharp from 'sharp';
+import { loadSharp } from '../util/optionalModules.js';
 import type { Metadata } from 'sharp';
 import { inputError, RhofieldError } from '../util/errors.js';
 import { checkImageIntegrity } from './checkIntegrity.js';
@@ -94,6 +94,7 @@ export async function loadImageInfo(path: string): Promise<ImageInfo> {
 }
 
 async function headerInfo(path: string): Promise<ImageInfo> {
+  const sharp = await loadSharp();
   let m: Metadata;
   try {
     m = await sharp(path).metadata();
@@ -161,6 +162,7 @@ async function decodeImage(path: string, options: LoadImageOptions): Promise<Loa
     throw inputError(`${path} claims ${info.width}×${info.height} px, more than the ${MAX_IMAGE_PIXELS} px the loader takes (the decoder's limit); crop the image, or check whether the header is damaged`);
   }
   const data = new Float32Array(n);
+  const sharp = await loadSharp();
   try {
     let img = sharp(path, { page, failOn: 'truncated' });
     if (info.channels === 2 || info.channels === 4) img = img.removeAlpha();

@@ -7,7 +7,7 @@
  */
 import { mkdir } from 'node:fs/promises';
 import { dirname, extname } from 'node:path';
-import sharp from 'sharp';
+import { loadSharp } from '../util/optionalModules.js';
 import type { TiffOptions } from 'sharp';
 import { invalidParameter } from '../util/errors.js';
 import type { Field } from '../util/field.js';
@@ -45,6 +45,7 @@ async function write(fields: readonly Field[], path: string, bits: 8 | 16): Prom
   const pix = quantise(fields, bits === 16 ? 65535 : 255);
   const pages = fields.length;
   const raw = { width: f0.width, height: f0.height * pages, channels: 1 as const, ...(pages > 1 ? { pageHeight: f0.height } : {}) };
+  const sharp = await loadSharp();
   let img = sharp(pix, { raw }).toColourspace(bits === 16 ? 'grey16' : 'b-w');
   await mkdir(dirname(path), { recursive: true });
   if (fmt === 'png') {

@@ -17,7 +17,7 @@
  * - Size: `widthPx` (default 800) or, for print, `widthMm` and `dpi` (PNG width = widthMm/25.4·dpi;
  *   the SVG then carries its width in mm). All text scales with the figure (13/800 of the width).
  */
-import sharp from 'sharp';
+import { loadSharp } from '../util/optionalModules.js';
 import { invalidParameter } from '../util/errors.js';
 import type { Field, MaskField } from '../util/field.js';
 import { colormapLut, type ColormapKind } from './colormaps.js';
@@ -336,6 +336,7 @@ function makeFigure(fr: Frame, svg: string): Figure {
     async png() {
       // librsvg renders the SVG's own size at `density` dpi (72 = 1 px per SVG px).
       const density = fr.widthMm !== undefined ? fr.dpi : 72;
+      const sharp = await loadSharp();
       return sharp(Buffer.from(svg), { density, limitInputPixels: false })
         .resize(fr.widthPx, fr.heightPx, { fit: 'fill' })
         .flatten({ background: '#ffffff' })

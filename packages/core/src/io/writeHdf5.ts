@@ -13,8 +13,8 @@
  * ```
  */
 import { existsSync } from 'node:fs';
-import h5wasm from 'h5wasm/node';
 import { RhofieldError } from '../util/errors.js';
+import { loadH5wasm } from '../util/optionalModules.js';
 import { VERSION } from '../util/version.js';
 import { validateFieldSet, type FieldSet } from './fieldSet.js';
 
@@ -25,7 +25,7 @@ import { validateFieldSet, type FieldSet } from './fieldSet.js';
  */
 export async function writeHdf5(path: string, set: FieldSet): Promise<void> {
   const { cols, rows } = validateFieldSet(set);
-  await h5wasm.ready;
+  const h5wasm = await loadH5wasm();
   const f = new h5wasm.File(path, 'w');
   try {
     if (set.title) f.create_attribute('title', set.title);

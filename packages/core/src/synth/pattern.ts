@@ -20,7 +20,7 @@
  *   {@link MAX_PNG_PIXELS} pixels.
  */
 import { deflateSync } from 'node:zlib';
-import sharp from 'sharp';
+import { loadSharp } from '../util/optionalModules.js';
 import { createRng } from '../util/rng.js';
 import { invalidParameter, RhofieldError } from '../util/errors.js';
 
@@ -319,6 +319,7 @@ export async function patternToPng(p: DotPattern, dpi: number): Promise<Uint8Arr
   }
   // The SVG is given its pixel size directly (librsvg then renders 1:1 at 72 dpi); the DPI is stored
   // in the PNG's pHYs chunk. (Giving sharp `density` with mm sizes scales twice.)
+  const sharp = await loadSharp();
   const buf = await sharp(Buffer.from(svgText(p, { width, height })), { limitInputPixels: false })
     .flatten({ background: '#ffffff' })
     .toColourspace('b-w')

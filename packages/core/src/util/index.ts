@@ -6,3 +6,6 @@ export type { Rng } from './rng.js';
 export { createRng } from './rng.js';
 export { VERSION } from './version.js';
 export { formatBytes, parseByteSize } from './byteSize.js';
+export type { WorkerScript } from './workerScript.js';
+export { siblingWorkerUrl, workerScript } from './workerScript.js';
+export { checkWorkerStarts } from './workerScript.js';
