@@ -79,6 +79,14 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
     );
   }
   const mask = o.maskPath ? await t('mask', () => loadMask(o.maskPath!, { width: refImg.width, height: refImg.height })) : undefined;
+  // input hashes for result.json: read on the thread pool while the workers measure
+  const hashes = Promise.all([
+    sha256File(job.refPath),
+    sha256File(job.measPath),
+    o.maskPath ? sha256File(o.maskPath) : Promise.resolve(null),
+    o.setupPath ? sha256File(o.setupPath) : Promise.resolve(null),
+  ]);
+  hashes.catch(() => {}); // awaited below; a failed measurement must not leave an unhandled rejection
   onStage('measuring displacement', 0.05);
   const disp = await t('displacement', () =>
     measureDisplacement(refImg.field, measImg.field, {
@@ -116,35 +124,45 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
     measPage: job.measPage ?? 0,
   };
 
-  onStage('writing displacement files', 0.8);
-  await t('write_displacement', async () => {
-    const set = displacementFieldSet(disp, { ...(xM ? { xM } : {}), ...(yM ? { yM } : {}), settings });
-    if (formats.includes('npy')) await fsp.writeFile(path.join(outDir, 'displacement.npy'), fieldToNpy([disp.dxPx, disp.dyPx]));
-    await writeFieldSet(outDir, 'displacement', set, formats, { figure: { vectors: 'displacement', ...o.figure } });
-  });
-
+  // density first (main thread), then both sets' files at once: figures render on the thread pool
+  // while the CSV text is built here. The write timings overlap when both are written.
   let density: ReturnType<typeof reconstructDensity> | null = null;
   if (setup) {
-    onStage('reconstructing density', 0.88);
+    onStage('reconstructing density', 0.8);
     density = await t('reconstruct', () => reconstructDensity(disp, setup));
-    onStage('writing density files', 0.92);
-    await t('write_density', async () => {
-      const set = densityFieldSet(density!, { xPx: disp.grid.xPx, yPx: disp.grid.yPx }, { settings });
-      if (formats.includes('npy')) await fsp.writeFile(path.join(outDir, 'density.npy'), fieldToNpy(density!.rho));
-      await writeFieldSet(outDir, 'density', set, formats, { figure: { vectors: 'deflection', ...o.figure } });
-    });
   }
+  onStage('writing displacement files', 0.85);
+  const writes: Promise<unknown>[] = [
+    t('write_displacement', async () => {
+      const set = displacementFieldSet(disp, { ...(xM ? { xM } : {}), ...(yM ? { yM } : {}), settings });
+      await Promise.all([
+        writeFieldSet(outDir, 'displacement', set, formats, { figure: { vectors: 'displacement', ...o.figure } }),
+        formats.includes('npy') ? fsp.writeFile(path.join(outDir, 'displacement.npy'), fieldToNpy([disp.dxPx, disp.dyPx])) : null,
+      ]);
+    }),
+  ];
+  if (density) {
+    onStage('writing density files', 0.9);
+    const rec = density;
+    writes.push(
+      t('write_density', async () => {
+        const set = densityFieldSet(rec, { xPx: disp.grid.xPx, yPx: disp.grid.yPx }, { settings });
+        await Promise.all([
+          writeFieldSet(outDir, 'density', set, formats, { figure: { vectors: 'deflection', ...o.figure } }),
+          formats.includes('npy') ? fsp.writeFile(path.join(outDir, 'density.npy'), fieldToNpy(rec.rho)) : null,
+        ]);
+      }),
+    );
+  }
+  const settledWrites = await Promise.allSettled(writes);
+  const writeError = settledWrites.find((r): r is PromiseRejectedResult => r.status === 'rejected');
+  if (writeError) throw writeError.reason;
 
-  const [refHash, measHash, maskHash, setupHash] = await Promise.all([
-    sha256File(job.refPath),
-    sha256File(job.measPath),
-    o.maskPath ? sha256File(o.maskPath) : Promise.resolve(null),
-    o.setupPath ? sha256File(o.setupPath) : Promise.resolve(null),
-  ]);
-  const magnitudes: number[] = [];
+  const [refHash, measHash, maskHash, setupHash] = await hashes;
+  let maxMagnitude = -Infinity; // a loop, not Math.max(...): large grids overflow the argument list
   for (let i = 0; i < disp.dxPx.data.length; i++) {
     const m = Math.hypot(disp.dxPx.data[i]!, disp.dyPx.data[i]!);
-    if (Number.isFinite(m)) magnitudes.push(m);
+    if (Number.isFinite(m) && m > maxMagnitude) maxMagnitude = m;
   }
   const summary: Record<string, unknown> = {
     ...provenance(),
@@ -158,7 +176,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
     grid: { cols: disp.grid.cols, rows: disp.grid.rows },
     displacement: {
       counts: disp.counts,
-      maxMagnitudePx: magnitudes.length ? Math.max(...magnitudes) : null,
+      maxMagnitudePx: maxMagnitude > -Infinity ? maxMagnitude : null,
       ...(disp.shakePx ? { shakeRemovedPx: disp.shakePx } : {}),
       passes: disp.passes.map((p) => ({ windowPx: p.windowPx, stepPx: p.stepPx, outliers: p.outliers, ms: p.ms })),
     },
