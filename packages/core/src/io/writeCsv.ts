@@ -50,22 +50,24 @@ export function formatFloat32(v: number): string {
   return formatFloat32Exact(v);
 }
 
+const ZEROS = Array.from({ length: 24 }, (_, k) => '0'.repeat(k));
+
 /**
- * n·10^q (n a positive integer below 2⁵³, at most 10 digits; q such that the value lies in
- * [10⁻⁷, 10²¹)) written as `String` writes that number: plain decimal notation, no trailing zeros.
- * A decimal of at most 15 significant digits is the shortest string of the double nearest to it,
- * so this equals `String(n·10^q)`.
+ * n·10^q (n a positive integer of at most 10 digits; the value in [10⁻⁶, 10²¹)) written as `String`
+ * writes that number: plain decimal notation, no trailing zeros. A decimal of at most 15 significant
+ * digits is the shortest string of the double nearest to it, so this equals `String(n·10^q)`.
+ * Integer and fraction digits come from exact integer arithmetic (all values below 2⁵³).
  */
 function decimalString(n: number, q: number): string {
   while (n % 10 === 0) {
     n /= 10;
     q++;
   }
-  const digits = String(n);
-  const point = digits.length + q; // digits before the decimal point
-  if (q >= 0) return q === 0 ? digits : digits + '0'.repeat(q);
-  if (point > 0) return digits.slice(0, point) + '.' + digits.slice(point);
-  return '0.' + '0'.repeat(-point) + digits;
+  if (q >= 0) return String(n) + ZEROS[q]!;
+  const div = POW10[-q]!;
+  const ip = Math.floor(n / div);
+  const fp = String(n - ip * div);
+  return String(ip) + '.' + ZEROS[-q - fp.length]! + fp;
 }
 
 /** {@link formatFloat32} by its definition (toPrecision for p = 1 … 9). */
