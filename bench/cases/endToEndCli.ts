@@ -20,8 +20,9 @@
  * the process wall time; "outside stages" = start-up, argument checks, result.json and exit). The
  * machine is shared (2 cores, other jobs running): expect ±30 % on single runs.
  *
- * The command is the one `packages/cli/package.json` names in `bin` (compiled code once the package
- * builds to dist/), else packages/cli/dist/bin/rhofield.js, else packages/cli/bin/rhofield.js.
+ * The command is RHOFIELD_BENCH_CLI when set (e.g. the `rhofield` of an installed tarball), else the
+ * one `packages/cli/package.json` names in `bin` (compiled code once the package builds to dist/),
+ * else packages/cli/dist/bin/rhofield.js, else packages/cli/bin/rhofield.js.
  */
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
@@ -46,9 +47,14 @@ function say(line: string): void {
   process.stderr.write(line + '\n');
 }
 
-/** The rhofield command file: package.json `bin`, else the compiled entry, else the source entry. */
+/** The rhofield command file: RHOFIELD_BENCH_CLI, package.json `bin`, the compiled entry, the source entry. */
 export function resolveCli(): { file: string; compiled: boolean; from: string } {
   const candidates: { file: string; from: string }[] = [];
+  const fromEnv = process.env.RHOFIELD_BENCH_CLI;
+  if (fromEnv) {
+    if (!existsSync(fromEnv)) throw new Error(`RHOFIELD_BENCH_CLI=${fromEnv}: no such file`);
+    candidates.push({ file: path.resolve(fromEnv), from: 'RHOFIELD_BENCH_CLI' });
+  }
   try {
     const pkg = JSON.parse(readFileSync(path.join(cliDir, 'package.json'), 'utf8')) as { bin?: string | Record<string, string> };
     const bin = typeof pkg.bin === 'string' ? pkg.bin : pkg.bin?.rhofield;
@@ -59,7 +65,9 @@ export function resolveCli(): { file: string; compiled: boolean; from: string } 
   candidates.push({ file: path.join(cliDir, 'dist', 'bin', 'rhofield.js'), from: 'dist/bin' }, { file: path.join(cliDir, 'bin', 'rhofield.js'), from: 'bin (source)' });
   const hit = candidates.find((c) => existsSync(c.file));
   if (!hit) throw new Error(`no rhofield command found (tried ${candidates.map((c) => c.file).join(', ')})`);
-  return { ...hit, compiled: hit.file.split(path.sep).includes('dist') };
+  // compiled = not the TypeScript-through-tsx shim (which registers tsx at run time)
+  const compiled = hit.file.split(path.sep).includes('dist') || !readFileSync(hit.file, 'utf8').includes('tsx');
+  return { ...hit, compiled };
 }
 
 const TIME = existsSync('/usr/bin/time') ? '/usr/bin/time' : null;
