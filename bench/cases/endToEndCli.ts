@@ -34,7 +34,7 @@ import { decodeNpy, saveImage16, synthPair, type DotDisplacement } from '@rhofie
 export const name = 'endToEndCli';
 
 const SIZE = 2048;
-const ROUNDS = 7;
+const ROUNDS = 9;
 const UNIFORM: [number, number] = [3.17, -1.902];
 const smooth = (x: number, y: number): [number, number] => [1.5 + Math.sin((2 * Math.PI * x) / 1024), -0.8 + 0.8 * Math.cos((2 * Math.PI * y) / 1024)];
 const PYTHON = '/usr/bin/python3';
