@@ -192,6 +192,7 @@ export async function run(): Promise<Record<string, unknown>> {
     const uniformNp = numpyError(w2, () => UNIFORM);
     for (const d of [dS, pS, w1, w2, w3]) rmSync(d, { recursive: true, force: true });
 
+    const loadBefore = os.loadavg()[0]!;
     const disp: Run[] = [];
     const dens: Run[] = [];
     const nump: Run[] = [];
@@ -215,6 +216,7 @@ export async function run(): Promise<Record<string, unknown>> {
       say(`round ${r + 1}/${ROUNDS}: rhofield displacement ${run1.seconds.toFixed(3)} s, numpy ${nump.at(-1)!.seconds.toFixed(3)} s, rhofield density ${run3.seconds.toFixed(3)} s`);
       for (const d of [a, b, c]) rmSync(d, { recursive: true, force: true });
     }
+    const loadAfter = os.loadavg()[0]!;
     const mDisp = median(disp.map((x) => x.seconds));
     const mNump = median(nump.map((x) => x.seconds));
     const mDens = median(dens.map((x) => x.seconds));
@@ -232,6 +234,7 @@ export async function run(): Promise<Record<string, unknown>> {
     const densRss = dens.map((x) => x.peakRssMB).filter((x): x is number => x !== null);
     const npRss = nump.map((x) => x.peakRssMB).filter((x): x is number => x !== null);
 
+    say(`machine load (1-min average, ${os.cpus().length} CPUs): ${loadBefore.toFixed(1)} before the timed rounds, ${loadAfter.toFixed(1)} after`);
     say(`rhofield displacement: median ${mDisp.toFixed(3)} s over ${ROUNDS} runs; numpy script: median ${mNump.toFixed(3)} s; ratio numpy/rhofield ${ratio.toFixed(2)} (target ≥ 1.5)`);
     say(`RMS error, uniform (${UNIFORM.join(', ')}) px: rhofield ${uniformRf.rms} px (target ≤ 0.009), numpy ${uniformNp.rms} px`);
     say(`RMS error, smooth field: rhofield ${smoothRf.rms} px, numpy ${smoothNp.rms} px`);
@@ -243,6 +246,7 @@ export async function run(): Promise<Record<string, unknown>> {
       pair: `${SIZE}x${SIZE} px, 16 bit, 2.8 px dots, 10 dots per 32 px window, no noise; uniform (${UNIFORM.join(', ')}) px; smooth dx = 1.5 + sin(2πx/1024), dy = −0.8 + 0.8·cos(2πy/1024)`,
       command: { file: path.relative(root, cli.file), from: cli.from, compiled: cli.compiled },
       rounds: ROUNDS,
+      loadAverage1min: { before: +loadBefore.toFixed(2), after: +loadAfter.toFixed(2), cpus: os.cpus().length },
       rhofieldDisplacement: { medianSeconds: +mDisp.toFixed(3), runs: disp.map((x) => +x.seconds.toFixed(3)), stageShares: shares(stages), peakRssMB: peakRss },
       numpyScript: { medianSeconds: +mNump.toFixed(3), runs: nump.map((x) => +x.seconds.toFixed(3)), peakRssMB: maxOf(npRss) },
       ratio: { value: +ratio.toFixed(2), target: '≥ 1.5', pass: ratio >= 1.5 },
