@@ -240,7 +240,7 @@ export async function run(): Promise<Record<string, unknown>> {
     say(`RMS error, smooth field: rhofield ${smoothRf.rms} px, numpy ${smoothNp.rms} px`);
     say(`rhofield displacement stage shares of the wall time: ${JSON.stringify(shares(stages))}`);
     say(`peak RSS: rhofield displacement ${peakRss ?? 'n/a'} MB (goal ≤ 256), density ${maxOf(densRss) ?? 'n/a'} MB, numpy ${maxOf(npRss) ?? 'n/a'} MB`);
-    say(`rhofield density: median ${mDens.toFixed(3)} s = ${densRatio.toFixed(2)} × displacement (target ≤ 1.4); stage shares ${JSON.stringify(shares(densStages))} (write stages overlap)`);
+    say(`rhofield density: median ${mDens.toFixed(3)} s = ${densRatio.toFixed(2)} × displacement (target ≤ 1.4); stage shares ${JSON.stringify(shares(densStages))}`);
 
     return {
       pair: `${SIZE}x${SIZE} px, 16 bit, 2.8 px dots, 10 dots per 32 px window, no noise; uniform (${UNIFORM.join(', ')}) px; smooth dx = 1.5 + sin(2πx/1024), dy = −0.8 + 0.8·cos(2πy/1024)`,
