@@ -18,7 +18,7 @@ export const name = 'memory';
 type SharpLike = (input: unknown) => { greyscale(): { png(o: unknown): { toFile(f: string): Promise<unknown> } } };
 const sharp = createRequire(new URL('../../packages/core/package.json', import.meta.url))('sharp') as SharpLike;
 const ROOT = fileURLToPath(new URL('../..', import.meta.url));
-const BIN = path.join(ROOT, 'packages/cli/bin/rhofield.js');
+const BIN = path.join(ROOT, 'packages/cli/dist/bin/rhofield.js');
 const PEAK = 'data:text/javascript,process.on("exit",()=>process.stderr.write("peak-rss-kB "+process.resourceUsage().maxRSS+"\\n"))';
 
 function runCli(args: string[]): { code: number | null; seconds: number; peakMB: number; err: string } {

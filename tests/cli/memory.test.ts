@@ -19,7 +19,7 @@ type SharpLike = (input: unknown) => { greyscale(): { png(o: unknown): { toFile(
 const sharp = createRequire(new URL('../../packages/core/package.json', import.meta.url))('sharp') as SharpLike;
 
 const ROOT = fileURLToPath(new URL('../..', import.meta.url));
-const BIN = path.join(ROOT, 'packages/cli/bin/rhofield.js');
+const BIN = path.join(ROOT, 'packages/cli/dist/bin/rhofield.js');
 /** Prints the process's peak RSS (kB, getrusage) on stderr at exit. */
 const PEAK = 'data:text/javascript,process.on("exit",()=>process.stderr.write("peak-rss-kB "+process.resourceUsage().maxRSS+"\\n"))';
 

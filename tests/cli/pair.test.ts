@@ -2,6 +2,7 @@
  * `rhofield displacement` and `rhofield density` end to end through run(argv), on synthetic pairs made
  * by the project (known input displacement), plus every bad input the displacement issue lists.
  */
+import { createHash } from 'node:crypto';
 import { existsSync, mkdtempSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
@@ -41,13 +42,20 @@ describe('rhofield displacement REF MEAS --out DIR', () => {
     for (const c of ['x_px', 'y_px', 'dx_px', 'dy_px', 'peak_ratio', 'status']) expect(head).toContain(c);
     const ix = head.indexOf('dx_px');
     const iy = head.indexOf('dy_px');
+    let largest = 0;
     for (const line of csv.slice(1)) {
       const v = line.split(',');
       expect(Math.abs(Number(v[ix]) - 1.37)).toBeLessThan(0.05);
       expect(Math.abs(Number(v[iy]) + 0.62)).toBeLessThan(0.05);
+      largest = Math.max(largest, Math.hypot(Number(v[ix]), Number(v[iy])));
     }
     const res = JSON.parse(readFileSync(path.join(out, 'result.json'), 'utf8'));
     expect(res.inputs.reference.sha256).toMatch(/^[0-9a-f]{64}$/);
+    // hashes (read while the measurement runs) against node:crypto on the whole file
+    expect(res.inputs.reference.sha256).toBe(createHash('sha256').update(readFileSync(ref)).digest('hex'));
+    expect(res.inputs.measurement.sha256).toBe(createHash('sha256').update(readFileSync(meas)).digest('hex'));
+    // largest |d| over the grid (CSV values are float32 in shortest form: equal to ~1e-6 px)
+    expect(res.displacement.maxMagnitudePx).toBeCloseTo(largest, 5);
     expect(res.settings.windowPx).toBe(32);
     // every setting with its default filled in (issue: provenance)
     expect(res.settings).toMatchObject({ stepPx: 16, passes: 3, interpolation: 'lanczos4', refine: 'direct', masked: false });

@@ -110,7 +110,7 @@ describe('threads', () => {
       const a = await measureDisplacement(ref, meas, { threads: 2 });
       const b = await createDisplacementEngine({ threads: 2 }).measure(ref, meas);
       console.log(JSON.stringify({ threads: [a.threads, b.threads], valid: a.counts.valid }));`;
-    const r = spawnSync(process.execPath, ['--import', 'tsx', '--input-type=module', '-e', script], { cwd: ROOT, encoding: 'utf8', timeout: 60_000 });
+    const r = spawnSync(process.execPath, ['--conditions=rhofield-source', '--import', 'tsx', '--input-type=module', '-e', script], { cwd: ROOT, encoding: 'utf8', timeout: 60_000 });
     expect(r.error).toBeUndefined(); // a process kept alive by its workers shows here as a timeout
     expect(r.status, r.stderr).toBe(0);
     const out = JSON.parse(r.stdout.trim().split('\n').pop()!) as { threads: number[]; valid: number };

@@ -36,6 +36,34 @@ describe('formatFloat32(v): shortest decimal that reads back to the same float32
     expect(formatFloat32(0.1)).toBe('0.1'); // shortest, not 0.100000001
     expect(formatFloat32(NaN)).toBe('');
   });
+  it('equals its definition (first p = 1…8 whose toPrecision(p) rounds back, else 9; ECMA-262 Number.prototype.toPrecision) on random float32 and on decade edges and ties', () => {
+    const byDefinition = (v: number): string => {
+      for (let p = 1; p < 9; p++) {
+        const s = v.toPrecision(p);
+        if (Math.fround(Number(s)) === v) return String(Number(s));
+      }
+      return String(Number(v.toPrecision(9)));
+    };
+    const bits = new Uint32Array(1);
+    const f = new Float32Array(bits.buffer);
+    let seed = 12345;
+    const next = () => (seed = (Math.imul(seed, 1664525) + 1013904223) >>> 0);
+    const vals: number[] = [];
+    for (let i = 0; i < 200000; i++) {
+      // exponents spread over the whole float32 range, and densely over 1e-6 … 1e16
+      bits[0] = i % 2 ? next() : (next() & 0x807fffff) | ((100 + (next() % 60)) << 23);
+      vals.push(f[0]!);
+    }
+    for (let e = -8; e <= 16; e++) for (const m of [1, 0.5, 2.5, 9.5, 9.999999, 1.0000001, 0.99999994]) vals.push(Math.fround(m * 10 ** e), Math.fround(-m * 10 ** e));
+    for (let i = 0; i < 5000; i++) vals.push(Math.fround((i + 0.5) / 1024), Math.fround(i / 8 + 0.0625), Math.fround(-i * 0.25));
+    let bad = '';
+    for (const v of vals) {
+      if (Number.isNaN(v) || !Number.isFinite(v)) continue;
+      const want = v === 0 ? '0' : byDefinition(v);
+      if (formatFloat32(v) !== want && !bad) bad = `${v}: ${formatFloat32(v)} vs ${want}`;
+    }
+    expect(bad).toBe('');
+  });
 });
 
 describe.skipIf(skipNumpy)('.npy read back with numpy', () => {

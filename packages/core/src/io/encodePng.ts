@@ -35,8 +35,9 @@ function chunk(type: string, body: Uint8Array): Buffer {
  * Encode an 8-bit raster as PNG bytes.
  * @param pixels interleaved samples, row-major, `channels` per pixel (3 = RGB, 4 = RGBA).
  * @param width columns; @param height rows.
+ * @param level zlib compression level 0–9 (default 6); the image is the same at every level.
  */
-export function encodePng(pixels: Uint8Array, width: number, height: number, channels: 3 | 4): Buffer {
+export function encodePng(pixels: Uint8Array, width: number, height: number, channels: 3 | 4, level = 6): Buffer {
   const stride = width * channels;
   const raw = Buffer.alloc((stride + 1) * height);
   for (let y = 0; y < height; y++) {
@@ -51,7 +52,7 @@ export function encodePng(pixels: Uint8Array, width: number, height: number, cha
   return Buffer.concat([
     Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]),
     chunk('IHDR', ihdr),
-    chunk('IDAT', deflateSync(raw, { level: 6 })),
+    chunk('IDAT', deflateSync(raw, { level })),
     chunk('IEND', new Uint8Array(0)),
   ]);
 }

@@ -167,11 +167,16 @@ export async function writeFieldSet(
     if (taken) throw inputError(`${taken.path} already exists; choose another output folder or allow overwriting (--force)`);
   }
   await mkdir(dir, { recursive: true });
-  const written: WrittenFile[] = [];
-  for (const j of jobs) {
-    const content = await j.make();
-    if (content !== null) await writeFile(j.path, content);
-    written.push({ format: j.format, path: j.path });
-  }
-  return written;
+  // All files at once: figures first, so that librsvg and the PNG encoder work on the thread pool
+  // while the CSV and the other formats are built here; every job settles before an error is thrown.
+  const figuresFirst = [...jobs.filter((j) => j.format === 'png' || j.format === 'svg'), ...jobs.filter((j) => j.format !== 'png' && j.format !== 'svg')];
+  const settled = await Promise.allSettled(
+    figuresFirst.map(async (j) => {
+      const content = await j.make();
+      if (content !== null) await writeFile(j.path, content);
+    }),
+  );
+  const failed = settled.find((r): r is PromiseRejectedResult => r.status === 'rejected');
+  if (failed) throw failed.reason;
+  return jobs.map((j) => ({ format: j.format, path: j.path }));
 }
