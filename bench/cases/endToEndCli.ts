@@ -15,7 +15,7 @@
  *  1. numpy median / rhofield displacement median ≥ 1.5;
  *  2. rhofield's RMS error on the uniform pair ≤ 0.009 px (RMS over vectors and both components);
  *  3. rhofield density median ≤ 1.4 × rhofield displacement median;
- *  4. goal, not a gate: peak RSS of the displacement run ≤ 256 MB (from /usr/bin/time when present).
+ *  4. goal, not a gate: peak RSS of the displacement run ≤ 256 MB (/usr/bin/time, else VmHWM).
  * Also reported: numpy's RMS on both pairs, rhofield's stage shares (result.json timingsSeconds over
  * the process wall time; "outside stages" = start-up, argument checks, result.json and exit). The
  * machine is shared (2 cores, other jobs running): expect ±30 % on single runs.
@@ -24,7 +24,7 @@
  * one `packages/cli/package.json` names in `bin` (compiled code once the package builds to dist/),
  * else packages/cli/dist/bin/rhofield.js, else packages/cli/bin/rhofield.js.
  */
-import { spawnSync } from 'node:child_process';
+import { spawn } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
@@ -77,15 +77,38 @@ interface Run {
   peakRssMB: number | null;
 }
 
-/** Run a command as a fresh process; wall time from spawn to exit, peak RSS from /usr/bin/time. */
-function timed(cmd: string, args: string[]): Run {
+/**
+ * Run a command as a fresh process; wall time from spawn to exit. Peak RSS from /usr/bin/time when
+ * present, else the last VmHWM (the kernel's high-water mark of the resident set) read from
+ * /proc/PID/status every 5 ms while the process runs.
+ */
+async function timed(cmd: string, args: string[]): Promise<Run> {
   const argv = TIME ? ['-f', 'RFBENCH_RSS_KB %M', cmd, ...args] : args;
   const t0 = performance.now();
-  const r = spawnSync(TIME ?? cmd, argv, { encoding: 'utf8', cwd: root, maxBuffer: 64 << 20 });
+  const child = spawn(TIME ?? cmd, argv, { cwd: root, stdio: ['ignore', 'ignore', 'pipe'] });
+  let stderr = '';
+  child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
+  let hwmKb = 0;
+  const poll = TIME
+    ? null
+    : setInterval(() => {
+        try {
+          const m = /VmHWM:\s+(\d+)/.exec(readFileSync(`/proc/${child.pid}/status`, 'utf8'));
+          if (m) hwmKb = Math.max(hwmKb, Number(m[1]));
+        } catch {
+          // process gone or no /proc
+        }
+      }, 5);
+  const code = await new Promise<number | null>((resolve, reject) => {
+    child.on('error', reject);
+    child.on('close', resolve);
+  });
   const seconds = (performance.now() - t0) / 1000;
-  if (r.status !== 0) throw new Error(`${cmd} ${args.join(' ')} failed (${r.status}): ${r.stderr}`);
-  const m = /RFBENCH_RSS_KB (\d+)/.exec(r.stderr ?? '');
-  return { seconds, peakRssMB: m ? +(Number(m[1]) / 1024).toFixed(1) : null };
+  if (poll) clearInterval(poll);
+  if (code !== 0) throw new Error(`${cmd} ${args.join(' ')} failed (${code}): ${stderr}`);
+  const m = /RFBENCH_RSS_KB (\d+)/.exec(stderr);
+  const kb = m ? Number(m[1]) : hwmKb;
+  return { seconds, peakRssMB: kb > 0 ? +(kb / 1024).toFixed(1) : null };
 }
 
 function maxOf(v: readonly number[]): number | null {
@@ -178,16 +201,16 @@ export async function run(): Promise<Record<string, unknown>> {
     // accuracy (and warm-up): the smooth pair and one untimed run of each command
     const dS = out();
     const pS = out();
-    rfDisp(sRef, sMeas, dS);
-    py(sRef, sMeas, pS);
+    await rfDisp(sRef, sMeas, dS);
+    await py(sRef, sMeas, pS);
     const smoothRf = rhofieldError(dS, smooth);
     const smoothNp = numpyError(pS, smooth);
     const w1 = out();
     const w2 = out();
     const w3 = out();
-    rfDisp(uRef, uMeas, w1);
-    py(uRef, uMeas, w2);
-    rfDens(w3);
+    await rfDisp(uRef, uMeas, w1);
+    await py(uRef, uMeas, w2);
+    await rfDens(w3);
     const uniformRf = rhofieldError(w1, () => UNIFORM);
     const uniformNp = numpyError(w2, () => UNIFORM);
     for (const d of [dS, pS, w1, w2, w3]) rmSync(d, { recursive: true, force: true });
@@ -204,13 +227,13 @@ export async function run(): Promise<Record<string, unknown>> {
     };
     for (let r = 0; r < ROUNDS; r++) {
       const a = out();
-      const run1 = rfDisp(uRef, uMeas, a);
+      const run1 = await rfDisp(uRef, uMeas, a);
       disp.push(run1);
       collect(a, run1.seconds, stages);
       const b = out();
-      nump.push(py(uRef, uMeas, b));
+      nump.push(await py(uRef, uMeas, b));
       const c = out();
-      const run3 = rfDens(c);
+      const run3 = await rfDens(c);
       dens.push(run3);
       collect(c, run3.seconds, densStages);
       say(`round ${r + 1}/${ROUNDS}: rhofield displacement ${run1.seconds.toFixed(3)} s, numpy ${nump.at(-1)!.seconds.toFixed(3)} s, rhofield density ${run3.seconds.toFixed(3)} s`);
