@@ -59,7 +59,7 @@ export const COMMANDS: readonly CommandEntry[] = [
     name: 'check',
     term: 'check [options] <ref> [meas]',
     description:
-      'Check whether a reference image (and optionally a measurement image) is fit for BOS measurement: dot image diameter (e⁻², px), dots per window, contrast, clipped pixels, noise and focus; for a pair, the global shift (camera moved?) and the fraction of weak correlation peaks. Each finding comes with advice. Exit code 3 means the images are unusable for measurement.',
+      'Check whether a reference image (and optionally a measurement image) is fit for BOS measurement: dot image diameter (e⁻², px), dots per window, contrast, clipped pixels, noise and focus; for a pair, the global shift (camera moved?), the fraction of weak correlation peaks and whether the two images show the same background at all (fewer than 10 % of windows with a correlation peak ≥ 0.5 and ≥ 25 % flagged by the median test: unusable). Damaged files (PNG checksum, TIFF cut short) are refused with exit 2. Each finding comes with advice. Exit code 3 means the images are unusable for measurement.',
     load: async () => (await import('./check.js')).register,
   },
   {

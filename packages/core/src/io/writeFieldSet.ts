@@ -169,7 +169,7 @@ export async function writeFieldSet(
   await mkdir(dir, { recursive: true });
   // All files at once: figures first, so that librsvg and the PNG encoder work on the thread pool
   // while the CSV and the other formats are built here; every job settles before an error is thrown.
-  const figuresFirst = [...jobs.filter((j) => j.format === 'png' || j.format === 'svg'), ...jobs.filter((j) => j.format !== 'png' && j.format !== 'svg')];
+  const figuresFirst = jobs.filter((j) => j.format === 'png' || j.format === 'svg').concat(jobs.filter((j) => j.format !== 'png' && j.format !== 'svg'));
   const settled = await Promise.allSettled(
     figuresFirst.map(async (j) => {
       const content = await j.make();
