@@ -143,8 +143,9 @@ describe.skipIf(!HAS_PIPELINE)('rhofield batch (real pipeline)', () => {
   it.skipIf(!isRoot)('a full disk (a tiny tmpfs, root only) stops the run with a clear error and leaves only complete pairs', () => {
     const mnt = path.join(base, 'tiny');
     mkdirSync(mnt);
-    // room for about 3.5 pairs of this run's output (measured on the uninterrupted run above)
-    const pairBytes = Number(execFileSync('du', ['-sb', path.join(base, 'killed/pairs/frame_00000')], { encoding: 'utf8' }).split('\t')[0]);
+    // room for about 3.5 pairs of this run's output (measured on the uninterrupted run above, in allocated
+    // blocks: a tmpfs charges whole pages per file, so the apparent size would leave room for none)
+    const pairBytes = Number(execFileSync('du', ['-s', '--block-size=1', path.join(base, 'killed/pairs/frame_00000')], { encoding: 'utf8' }).split('\t')[0]);
     const kib = Math.max(64, Math.ceil((3.5 * pairBytes) / 4096) * 4 + 16);
     const m = spawnSync('mount', ['-t', 'tmpfs', '-o', `size=${kib}k`, 'tmpfs', mnt]);
     if (m.status !== 0) {

@@ -153,9 +153,9 @@ describe('memory guard', () => {
     mkdirSync(frames);
     await saveImage16(ref, path.join(frames, 'f_000.png'));
     await saveImage16(meas, path.join(frames, 'f_001.png'));
-    const r = await cli('batch', '--frames', path.join(frames, 'f_%03d.png'), '--out', path.join(dir, 'batch-out'), '--workers', '4', '--max-memory', '500MiB');
+    const r = await cli('batch', '--frames', path.join(frames, 'f_%03d.png'), '--out', path.join(dir, 'batch-out'), '--workers', '2', '--max-memory', '400MiB');
     expect(r.code).toBe(2);
-    expect(r.err).toMatch(/4 worker\(s\) on pairs of 256×256 px.*above --max-memory 500MiB.*fewer --workers/);
+    expect(r.err).toMatch(/2 worker\(s\) on pairs of 256×256 px.*above --max-memory 400MiB.*fewer --workers/);
     expect(existsSync(path.join(dir, 'batch-out', 'pairs'))).toBe(false);
   });
 });

@@ -150,7 +150,7 @@ function randomTag(): string {
 }
 
 /** `<host>-<pid>-<random>`: identifies the process that owns a staging folder or temporary file. */
-function ownerTag(): string {
+export function ownerTag(): string {
   return `${hostTag()}-${process.pid}-${randomTag()}`;
 }
 
@@ -230,7 +230,7 @@ const LOCK_NAME = '.rhofield-commit-lock';
  * one folder at the same time. A lock of a dead process of this host is taken over; a live one is
  * waited for (up to ~30 s).
  */
-async function takeLock(dir: string, tag: string, shownDir: string, label: string): Promise<() => void> {
+export async function takeLock(dir: string, tag: string, shownDir: string, label: string): Promise<() => void> {
   const lock = path.join(dir, LOCK_NAME);
   for (let i = 0; i < 600; i++) {
     try {
@@ -332,7 +332,7 @@ async function sha256(file: string): Promise<string> {
   return h.digest('hex');
 }
 
-async function entryOf(dir: string, name: string): Promise<ManifestEntry> {
+export async function entryOf(dir: string, name: string): Promise<ManifestEntry> {
   const f = path.join(dir, name);
   const st = await fsp.stat(f);
   return { name, bytes: st.size, sha256: await sha256(f) };
@@ -344,7 +344,7 @@ function isEntry(x: unknown): x is ManifestEntry {
 }
 
 /** A plain file name (no folder part, not the manifest): the only names a manifest may list. */
-function safeName(name: string): boolean {
+export function safeName(name: string): boolean {
   return name.length > 0 && name !== '.' && name !== '..' && name !== MANIFEST_NAME && !name.includes('/') && !name.includes('\\') && !name.includes('\0');
 }
 
@@ -374,7 +374,7 @@ export async function readManifest(dir: string, shownDir = dir): Promise<OutputM
 }
 
 /** Entries of the manifest whose files still exist with the recorded size and SHA-256. */
-async function ownedEntries(dir: string, m: OutputManifest | null): Promise<Map<string, ManifestEntry>> {
+export async function ownedEntries(dir: string, m: OutputManifest | null): Promise<Map<string, ManifestEntry>> {
   const owned = new Map<string, ManifestEntry>();
   if (!m) return owned;
   for (const e of m.files) {
@@ -395,7 +395,7 @@ async function ownedEntries(dir: string, m: OutputManifest | null): Promise<Map<
   return owned;
 }
 
-function manifestText(command: string, st: OutputManifest['state'], files: ManifestEntry[]): string {
+export function manifestText(command: string, st: OutputManifest['state'], files: ManifestEntry[]): string {
   const m: OutputManifest = { kind: 'rhofield-outputs', formatVersion: 1, state: st, command, tool: 'rhofield', version: VERSION, updatedUtc: new Date().toISOString(), files };
   return JSON.stringify(m, null, 2) + '\n';
 }

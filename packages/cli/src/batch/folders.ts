@@ -8,8 +8,11 @@
  *   DIR/statistics/              mean/std/count fields of the run (or of the merged shards)
  *   DIR/shards/<K>-of-<N>/       partial statistics of one shard of a job array
  *   DIR/logs/                    scheduler output of job-array tasks
+ *
+ * Each folder that holds files of the batch (a pair's, statistics/, a shard's, failed/) lists them in
+ * its `.rhofield-manifest.json` (see owned.ts); only those are ever replaced or removed.
  */
-import { existsSync, promises as fsp } from 'node:fs';
+import { promises as fsp } from 'node:fs';
 import path from 'node:path';
 
 export const layout = {
@@ -29,7 +32,7 @@ export const layout = {
 
 /**
  * True for the names a batch writes at the top of its folder (including temporaries of killed runs):
- * the only entries `--force` deletes.
+ * the only entries `--force` empties, and in them only the files the batch wrote (owned.ts).
  */
 export function isBatchEntry(name: string): boolean {
   return /^(run\.json(\.tmp-.*)?|pairs|failed|statistics(\.partial-.*|\.old-.*)?|shards)$/.test(name);
@@ -41,22 +44,6 @@ export function isStorageFull(err: unknown): boolean {
   if (code === 'ENOSPC' || code === 'EDQUOT' || code === 'EROFS') return true;
   const msg = err instanceof Error ? err.message : String(err);
   return /ENOSPC|EDQUOT|no space left on device|disk quota exceeded|read-only file system/i.test(msg);
-}
-
-/**
- * Put the complete folder `staged` at `target`, replacing an existing one: the old folder is moved
- * aside first, so a reader sees either the old or the new complete folder (and, only if killed in
- * the instant between the two renames, none).
- */
-export async function replaceDir(staged: string, target: string): Promise<void> {
-  if (existsSync(target)) {
-    const old = `${target}.old-${process.pid}-${Date.now()}`;
-    await fsp.rename(target, old);
-    await fsp.rename(staged, target);
-    await fsp.rm(old, { recursive: true, force: true });
-  } else {
-    await fsp.rename(staged, target);
-  }
 }
 
 /** Write a file atomically (temp file in the same folder + rename). */

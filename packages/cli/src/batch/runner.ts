@@ -9,14 +9,18 @@
  * - DIR/run.json records the settings and their SHA-256; a run with other settings refuses the folder
  *   (--force discards the old results first), so results of different settings never mix;
  * - a failed pair is recorded in DIR/failed/<id>.json and retried by the next run; a full or
- *   read-only disk stops the run (no later pair could be written) without touching finished pairs.
+ *   read-only disk stops the run (no later pair could be written) without touching finished pairs;
+ * - every folder with files of the batch lists them in its `.rhofield-manifest.json` (see owned.ts):
+ *   --force, the redo of an unfinished pair and new statistics remove only listed files, so a file the
+ *   user put into DIR/pairs/<id>/, DIR/statistics/, DIR/failed/ or DIR/shards/… stays (with a warning).
  */
 import { createHash } from 'node:crypto';
 import { existsSync, promises as fsp } from 'node:fs';
 import path from 'node:path';
 import { RhofieldError, selectShard, settingsHash as hashSettings, type PairJob, type ShardSpec } from '@rhofield/core';
-import { isBatchEntry, isStorageFull, layout, writeAtomic } from './folders.js';
+import { isBatchEntry, isStorageFull, layout } from './folders.js';
 import { removeOnInterrupt } from '../outputs.js';
+import { installFolder, recordFolder, removeOwned, removeOwnedFolders, updateOwnedFile, type Warn } from './owned.js';
 import { accumulatePairs, mergePartials, writePartial, writeStatistics } from './statistics.js';
 import type { ImageProbe, PairExecutor, PairSummaryLike, ProbeFn } from './types.js';
 
@@ -38,6 +42,8 @@ export interface BatchHooks {
   readonly onPair?: (e: { id: string; ok: boolean; done: number; total: number; error?: string }) => void;
   readonly onStart?: (e: { total: number; skipped: number; todo: number }) => void;
   readonly debug?: (msg: string) => void;
+  /** One warning line (a file of the user's kept in a batch folder, …); default: none. */
+  readonly warn?: Warn;
 }
 
 export interface BatchResult {
@@ -86,7 +92,7 @@ async function readManifest(file: string): Promise<Partial<Manifest>> {
  * Claim DIR for these settings: create run.json (atomically, exclusive so that concurrent shards
  * agree), or check that the existing one has the same settings hash.
  */
-export async function claimFolder(dir: string, settings: Record<string, unknown>, force: boolean, shard: ShardSpec | undefined, tool: Record<string, unknown>): Promise<string> {
+export async function claimFolder(dir: string, settings: Record<string, unknown>, force: boolean, shard: ShardSpec | undefined, tool: Record<string, unknown>, warn: Warn = () => {}): Promise<string> {
   const hash = hashSettings(settings);
   const mf = layout.manifest(dir);
   if (existsSync(dir)) {
@@ -106,8 +112,9 @@ export async function claimFolder(dir: string, settings: Record<string, unknown>
       if (shard) {
         throw new RhofieldError('usage', `--force with --shard (or inside a job array) would delete other shards' results; remove ${dir} before submitting, or drop --force`);
       }
-      // the batch's own entries only (see folders.ts), run.json last so that a killed --force stays a batch folder
-      for (const e of entries) if (isBatchEntry(e) && e !== 'run.json') await fsp.rm(path.join(dir, e), { recursive: true, force: true });
+      // the batch's own entries only (see folders.ts), and in them only the files the batch wrote
+      // (owned.ts); run.json last so that a killed --force stays a batch folder
+      for (const e of entries) if (e !== 'run.json') await discardEntry(dir, e, warn);
       await fsp.rm(mf, { force: true });
     } else if (existing && !same) {
       throw new RhofieldError(
@@ -136,6 +143,19 @@ export async function claimFolder(dir: string, settings: Record<string, unknown>
   return hash;
 }
 
+/** A staging folder of a pair (`.<id>.partial-<tag>`) or of a shard's statistics (`<K>-of-<N>.partial-<tag>`). */
+function isStagingName(name: string): boolean {
+  return /^\..+\.partial-[^/]*$/.test(name) || /^\d+-of-\d+\.partial-/.test(name);
+}
+
+/** Discard one top-level entry of a batch folder for --force, keeping every file the batch did not write. */
+async function discardEntry(dir: string, name: string, warn: Warn): Promise<void> {
+  const p = path.join(dir, name);
+  if (/^statistics\.partial-/.test(name)) await fsp.rm(p, { recursive: true, force: true });
+  else if (name === 'pairs' || name === 'shards') await removeOwnedFolders(p, isStagingName, warn);
+  else if (/^(statistics(\.old-.*)?|failed)$/.test(name)) await removeOwned(p, warn);
+}
+
 /** The result formats recorded in a run's settings (statistics are written in the same ones). */
 function formatsOf(settings: Record<string, unknown> | undefined): string[] {
   const f = settings?.['formats'];
@@ -160,7 +180,8 @@ function errorText(e: unknown): string {
  */
 export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: BatchHooks, tool: Record<string, unknown> = {}): Promise<BatchResult> {
   const dir = path.resolve(plan.outDir);
-  const hash = await claimFolder(dir, plan.settings, !!plan.force, plan.shard, tool);
+  const warn: Warn = hooks.warn ?? (() => {});
+  const hash = await claimFolder(dir, plan.settings, !!plan.force, plan.shard, tool, warn);
   const jHash = jobsHash(plan.jobs);
   const mine = selectShard(plan.jobs, plan.shard);
   const pairsDir = layout.pairs(dir);
@@ -184,9 +205,14 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
   for (const j of mine) {
     if (existing.has(j.id) && existsSync(layout.pairRecord(dir, j.id))) continue;
     todo.push(j);
-    for (const name of (leftovers.get(j.id) ?? []).concat(existing.has(j.id) ? [j.id] : [])) {
+    for (const name of leftovers.get(j.id) ?? []) {
       hooks.debug?.(`removing unfinished ${name}`);
       await fsp.rm(path.join(pairsDir, name), { recursive: true, force: true });
+    }
+    // a pair folder without pair.json: only the files the batch wrote go (the user's stay, and the redone pair joins them)
+    if (existing.has(j.id)) {
+      hooks.debug?.(`removing unfinished ${j.id}`);
+      await removeOwned(layout.pair(dir, j.id), warn);
     }
   }
   const skipped = mine.length - todo.length;
@@ -225,8 +251,9 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
       );
       const record = { id: j.id, index: j.index, refPath: j.refPath, refPage: j.refPage, measPath: j.measPath, measPage: j.measPage, settingsHash: hash, seconds: +((performance.now() - t0) / 1000).toFixed(3), summary };
       await fsp.writeFile(path.join(stage, 'pair.json'), JSON.stringify(record, null, 2) + '\n');
-      await fsp.rename(stage, layout.pair(dir, j.id));
-      await fsp.rm(layout.failedRecord(dir, j.id), { force: true });
+      await recordFolder(stage, 'batch');
+      await installFolder(stage, layout.pair(dir, j.id), { marker: 'pair.json', warn, asideName: `.${j.id}.old-${tag}` });
+      await updateOwnedFile(layout.failed(dir), `${j.id}.json`, null, 'batch', warn);
       processed++;
       done++;
       hooks.onPair?.({ id: j.id, ok: true, done, total: todo.length });
@@ -238,7 +265,8 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
       } else {
         failed.push({ id: j.id, error });
         try {
-          await writeAtomic(layout.failedRecord(dir, j.id), JSON.stringify({ id: j.id, refPath: j.refPath, measPath: j.measPath, refPage: j.refPage, measPage: j.measPage, error, at: new Date().toISOString() }, null, 2) + '\n');
+          const text = JSON.stringify({ id: j.id, refPath: j.refPath, measPath: j.measPath, refPage: j.refPage, measPage: j.measPage, error, at: new Date().toISOString() }, null, 2) + '\n';
+          await updateOwnedFile(layout.failed(dir), `${j.id}.json`, text, 'batch', warn);
         } catch (we) {
           if (isStorageFull(we)) stoppedBecause ??= `--out ${plan.outDir}: the disk is full or read-only (${storageCode(we)}); free space and rerun the same command to resume`;
         }
@@ -270,10 +298,10 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
     const failedIds = mine.filter((j) => !used.has(j.id)).map((j) => j.id);
     try {
       if (plan.shard) {
-        await writePartial(dir, acc, { shard: plan.shard, settingsHash: hash, jobsHash: jHash, pairsTotal: mine.length, failed: failedIds });
+        await writePartial(dir, acc, { shard: plan.shard, settingsHash: hash, jobsHash: jHash, pairsTotal: mine.length, failed: failedIds }, warn);
         statistics = { folder: layout.shard(dir, plan.shard.index, plan.shard.count), pairsUsed: acc?.pairIds.length ?? 0 };
       } else if (acc) {
-        await writeStatistics(dir, acc, { settingsHash: hash, jobsHash: jHash, pairsTotal: mine.length, pairsUsed: acc.pairIds.length, failed: failedIds }, formatsOf(plan.settings));
+        await writeStatistics(dir, acc, { settingsHash: hash, jobsHash: jHash, pairsTotal: mine.length, pairsUsed: acc.pairIds.length, failed: failedIds }, formatsOf(plan.settings), 'batch', warn);
         statistics = { folder: layout.statistics(dir), pairsUsed: acc.pairIds.length };
       }
     } catch (e) {
@@ -310,7 +338,7 @@ export interface MergeResult {
  * Combine the partial statistics of every shard of DIR into DIR/statistics.
  * @throws RhofieldError (input) if DIR is not a batch folder, or shards are missing or inconsistent.
  */
-export async function mergeBatch(outDir: string): Promise<MergeResult> {
+export async function mergeBatch(outDir: string, warn: Warn = () => {}): Promise<MergeResult> {
   const dir = path.resolve(outDir);
   const mf = layout.manifest(dir);
   if (!existsSync(mf)) throw new RhofieldError('input', `${dir} is not a batch folder (no run.json); give the --out folder of a batch run`);
@@ -326,6 +354,6 @@ export async function mergeBatch(outDir: string): Promise<MergeResult> {
     pairsUsed: acc.pairIds.length,
     shards: infos.length,
     failed,
-  }, formatsOf(manifest.settings));
+  }, formatsOf(manifest.settings), 'merge', warn);
   return { shards: infos.length, pairsTotal, pairsUsed: acc.pairIds.length, failed, folder: layout.statistics(dir), files };
 }

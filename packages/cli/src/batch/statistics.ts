@@ -24,7 +24,8 @@ import {
   type FieldSetGrid,
   type RunningStatistics,
 } from '@rhofield/core';
-import { layout, replaceDir, writeAtomic } from './folders.js';
+import { layout } from './folders.js';
+import { installFolder, recordFolder, type BatchCommand, type Warn } from './owned.js';
 
 /** Accumulators of one run or shard. */
 export interface BatchAccumulators {
@@ -159,14 +160,15 @@ function statisticsFieldSet(acc: BatchAccumulators, grid: FieldSetGrid, info: St
 }
 
 /**
- * Write DIR/statistics (replacing any previous one as a whole): displacement_mean/std (rows×cols×2,
+ * Write DIR/statistics (replacing the files of the previous one; files rhofield did not write there
+ * stay, see owned.ts): displacement_mean/std (rows×cols×2,
  * float64), displacement_count (rows×cols, uint32), density_mean/std/count likewise, the grid
  * (statistics_x_px/y_px[/x_m/y_m].npy, float64, when the pairs have them), statistics.json,
  * and the same fields in the run's other formats (`formats` minus npy: statistics.h5/.csv/.vti/.mat,
  * statistics_<field>.png/.svg; float32 there, the .npy files are the float64 originals).
  * The standard deviation is the sample one (n − 1); NaN where fewer than 2 valid samples.
  */
-export async function writeStatistics(dir: string, acc: BatchAccumulators, info: StatisticsInfo, formats: readonly string[] = ['npy']): Promise<string[]> {
+export async function writeStatistics(dir: string, acc: BatchAccumulators, info: StatisticsInfo, formats: readonly string[] = ['npy'], command: BatchCommand = 'batch', warn: Warn = () => {}): Promise<string[]> {
   const target = layout.statistics(dir);
   const stage = `${target}.partial-${process.pid}-${Date.now()}`;
   await fsp.mkdir(stage, { recursive: true });
@@ -214,7 +216,8 @@ export async function writeStatistics(dir: string, acc: BatchAccumulators, info:
       },
     };
     await fsp.writeFile(path.join(stage, 'statistics.json'), JSON.stringify(meta, null, 2) + '\n');
-    await replaceDir(stage, target);
+    await recordFolder(stage, command);
+    await installFolder(stage, target, { marker: 'statistics.json', warn });
     return written.concat('statistics.json');
   } catch (e) {
     await fsp.rm(stage, { recursive: true, force: true });
@@ -249,9 +252,9 @@ function unpackAcc(data: Float64Array, n: number): RunningStatistics {
 
 /**
  * Write a shard's partial accumulators to DIR/shards/<K>-of-<N>/ (count, mean, M2 stacked as a
- * 3×rows×cols float64 array per quantity), replacing any previous partial of that shard.
+ * 3×rows×cols float64 array per quantity), replacing the files of any previous partial of that shard.
  */
-export async function writePartial(dir: string, acc: BatchAccumulators | null, info: Omit<PartialInfo, 'rows' | 'cols' | 'hasDensity' | 'pairIds'>): Promise<void> {
+export async function writePartial(dir: string, acc: BatchAccumulators | null, info: Omit<PartialInfo, 'rows' | 'cols' | 'hasDensity' | 'pairIds'>, warn: Warn = () => {}): Promise<void> {
   const target = layout.shard(dir, info.shard.index, info.shard.count);
   await fsp.mkdir(layout.shards(dir), { recursive: true });
   const stage = `${target}.partial-${process.pid}-${Date.now()}`;
@@ -264,7 +267,8 @@ export async function writePartial(dir: string, acc: BatchAccumulators | null, i
     }
     const full: PartialInfo = { ...info, rows: acc?.rows ?? 0, cols: acc?.cols ?? 0, hasDensity: !!acc?.density, pairIds: acc?.pairIds ?? [] };
     await fsp.writeFile(path.join(stage, 'partial.json'), JSON.stringify(full, null, 2) + '\n');
-    await replaceDir(stage, target);
+    await recordFolder(stage, 'batch');
+    await installFolder(stage, target, { marker: 'partial.json', warn });
   } catch (e) {
     await fsp.rm(stage, { recursive: true, force: true });
     throw e;

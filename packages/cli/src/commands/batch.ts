@@ -10,6 +10,7 @@ import type { Command } from 'commander';
 import cliProgress from 'cli-progress';
 import {
   FIELD_SET_FORMATS,
+  capThreads,
   PAIRING_MODES,
   CLI_PROCESS_BYTES,
   estimateMemory,
@@ -169,9 +170,18 @@ function resolveShard(o: BatchOpts): ShardSpec | undefined {
   return shardFromEnv(process.env);
 }
 
-function workerCount(o: BatchOpts): number {
+/**
+ * Workers of a run on this machine: --workers, else SLURM_CPUS_PER_TASK, else one per core; more than
+ * the cores only add contention, so a larger request is capped with one warning line (not for
+ * --emit-job-script, whose workers run on the cluster's nodes).
+ */
+function workerCount(o: BatchOpts, log: Log): number {
   const env = Number(process.env.SLURM_CPUS_PER_TASK);
-  return parseIntOpt('--workers', o.workers, 1, 1024) ?? (Number.isInteger(env) && env > 0 ? env : defaultWorkerCount());
+  const asked = parseIntOpt('--workers', o.workers, 1, 1024);
+  const n = asked ?? (Number.isInteger(env) && env > 0 ? env : defaultWorkerCount());
+  const cap = capThreads(n, asked !== undefined ? '--workers' : 'SLURM_CPUS_PER_TASK');
+  if (cap.warning) log.warn(cap.warning);
+  return cap.threads;
 }
 
 /** Arguments that reproduce this batch command in a job script (no --shard, --force, --emit…). */
@@ -220,7 +230,7 @@ export async function batchCommand(o: BatchOpts, executorFactory?: (workers: num
   }
 
   const shard = resolveShard(o);
-  const workers = workerCount(o);
+  const workers = workerCount(o, log);
   // working set: the main process plus, per worker, its runtime and one pair (threads 1), estimated from
   // the first pair's headers before any pixel is decoded
   const budget = memoryBudget(o.maxMemory);
@@ -260,6 +270,7 @@ export async function batchCommand(o: BatchOpts, executorFactory?: (workers: num
           else log.debug(`pair ${e.id} ${e.ok ? 'done' : 'failed'} (${e.done}/${e.total})`);
         },
         debug: (m) => log.debug(m),
+        warn: (m) => log.warn(m),
       },
       provenance(),
     );

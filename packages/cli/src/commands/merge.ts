@@ -30,12 +30,12 @@ export function register(program: Command): void {
     .option('--json', 'print a JSON summary on stdout')
     .option('--quiet', 'no messages on stderr except warnings and errors')
     .option('--verbose', 'stack traces on errors')
-    .option('--force', 'accepted for uniformity; merge always replaces DIR/statistics as a whole')
+    .option('--force', 'accepted for uniformity; merge always replaces the files rhofield wrote in DIR/statistics (other files there stay)')
     .addHelpText('after', '\nExit codes: 0 merged, 1 merged but some pairs had failed (listed), 2 a shard is missing or inconsistent.')
     .action(async (dir: string, o: MergeOpts) => {
       const log = new Log(o);
       // a full or read-only disk names the batch folder, never the statistics' staging folder
-      const r = await mergeBatch(dir).catch((e: unknown) => Promise.reject(asTyped(storageError(e, 'batch folder', dir), dir)));
+      const r = await mergeBatch(dir, (m) => log.warn(m)).catch((e: unknown) => Promise.reject(asTyped(storageError(e, 'batch folder', dir), dir)));
       log.info(`merged ${r.shards} shard(s): statistics over ${r.pairsUsed} of ${r.pairsTotal} pairs in ${r.folder}`);
       if (r.failed.length) log.warn(`${r.failed.length} pair(s) are missing from the statistics (failed): ${r.failed.slice(0, 10).join(', ')}${r.failed.length > 10 ? ', …' : ''}`);
       log.json({ command: 'merge', dir: path.resolve(dir), ...r });
