@@ -79,8 +79,8 @@ export async function removeOwned(dir: string, warn: Warn): Promise<boolean> {
   }
   if (foreign.length > 0) {
     for (const n of foreign) warn(keptLine(dir, n));
-    // the list now names only what is still there (nothing of ours): keep it only if it proves something
-    if (m) await writeAtomic(path.join(dir, MANIFEST_NAME), manifestText(m.command, 'complete', []));
+    // nothing of ours is left to list (a damaged list stays, as reported)
+    if (m) await fsp.rm(path.join(dir, MANIFEST_NAME), { force: true });
     return false;
   }
   if (m || existsSync(path.join(dir, MANIFEST_NAME))) {

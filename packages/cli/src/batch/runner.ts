@@ -21,7 +21,7 @@ import { RhofieldError, selectShard, settingsHash as hashSettings, type PairJob,
 import { isBatchEntry, isStorageFull, layout } from './folders.js';
 import { removeOnInterrupt } from '../outputs.js';
 import { installFolder, recordFolder, removeOwned, removeOwnedFolders, updateOwnedFile, type Warn } from './owned.js';
-import { accumulatePairs, mergePartials, writePartial, writeStatistics } from './statistics.js';
+import { accumulatePairs, mergePartials, pairFinished, writePartial, writeStatistics } from './statistics.js';
 import type { ImageProbe, PairExecutor, PairSummaryLike, ProbeFn } from './types.js';
 
 export interface BatchPlan {
@@ -143,6 +143,16 @@ export async function claimFolder(dir: string, settings: Record<string, unknown>
   return hash;
 }
 
+/** A warning sink that passes each distinct line once (a kept file is met when emptying and again when refilling its folder). */
+function onceEach(warn: Warn | undefined): Warn {
+  const seen = new Set<string>();
+  return (m) => {
+    if (seen.has(m)) return;
+    seen.add(m);
+    warn?.(m);
+  };
+}
+
 /** A staging folder of a pair (`.<id>.partial-<tag>`) or of a shard's statistics (`<K>-of-<N>.partial-<tag>`). */
 function isStagingName(name: string): boolean {
   return /^\..+\.partial-[^/]*$/.test(name) || /^\d+-of-\d+\.partial-/.test(name);
@@ -180,7 +190,7 @@ function errorText(e: unknown): string {
  */
 export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: BatchHooks, tool: Record<string, unknown> = {}): Promise<BatchResult> {
   const dir = path.resolve(plan.outDir);
-  const warn: Warn = hooks.warn ?? (() => {});
+  const warn = onceEach(hooks.warn);
   const hash = await claimFolder(dir, plan.settings, !!plan.force, plan.shard, tool, warn);
   const jHash = jobsHash(plan.jobs);
   const mine = selectShard(plan.jobs, plan.shard);
@@ -203,7 +213,7 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
   }
   const todo: PairJob[] = [];
   for (const j of mine) {
-    if (existing.has(j.id) && existsSync(layout.pairRecord(dir, j.id))) continue;
+    if (existing.has(j.id) && (await pairFinished(dir, j.id, hash))) continue;
     todo.push(j);
     for (const name of leftovers.get(j.id) ?? []) {
       hooks.debug?.(`removing unfinished ${name}`);
@@ -292,7 +302,7 @@ export async function runBatch(plan: BatchPlan, executor: PairExecutor, hooks: B
 
   let statistics: BatchResult['statistics'] = null;
   if (!stoppedBecause) {
-    const { acc, mismatched } = await accumulatePairs(dir, mine.map((j) => j.id));
+    const { acc, mismatched } = await accumulatePairs(dir, mine.map((j) => j.id), hash);
     for (const m of mismatched) failed.push(m);
     const used = new Set(acc?.pairIds ?? []);
     const failedIds = mine.filter((j) => !used.has(j.id)).map((j) => j.id);
@@ -354,6 +364,6 @@ export async function mergeBatch(outDir: string, warn: Warn = () => {}): Promise
     pairsUsed: acc.pairIds.length,
     shards: infos.length,
     failed,
-  }, formatsOf(manifest.settings), 'merge', warn);
+  }, formatsOf(manifest.settings), 'merge', onceEach(warn));
   return { shards: infos.length, pairsTotal, pairsUsed: acc.pairIds.length, failed, folder: layout.statistics(dir), files };
 }

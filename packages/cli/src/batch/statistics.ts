@@ -43,15 +43,17 @@ async function readNpy(file: string) {
 }
 
 /**
- * Accumulate the finished pairs among `ids` (frame order) from DIR/pairs.
+ * Accumulate the finished pairs among `ids` (frame order) from DIR/pairs (with `settingsHash`: only
+ * those whose pair.json names these settings).
  * @returns the accumulators, and the ids skipped because their grid differs from the first pair's.
  */
-export async function accumulatePairs(dir: string, ids: readonly string[]): Promise<{ acc: BatchAccumulators | null; mismatched: Array<{ id: string; error: string }> }> {
+export async function accumulatePairs(dir: string, ids: readonly string[], settingsHash?: string): Promise<{ acc: BatchAccumulators | null; mismatched: Array<{ id: string; error: string }> }> {
   let acc: BatchAccumulators | null = null;
   const mismatched: Array<{ id: string; error: string }> = [];
   for (const id of ids) {
     const pdir = layout.pair(dir, id);
     if (!existsSync(layout.pairRecord(dir, id))) continue;
+    if (settingsHash !== undefined && !(await pairFinished(dir, id, settingsHash))) continue;
     const disp = await readNpy(path.join(pdir, 'displacement.npy'));
     const [rows, cols, comps] = disp.shape;
     if (disp.shape.length !== 3 || comps !== 2 || rows === undefined || cols === undefined) {
@@ -86,6 +88,19 @@ export async function accumulatePairs(dir: string, ids: readonly string[]): Prom
     acc.pairIds.push(id);
   }
   return { acc, mismatched };
+}
+
+/**
+ * True if pairs/<id> is a finished pair of these settings: its pair.json names them (a pair.json of
+ * other settings stays where --force could not remove it: a file of the user's, or a damaged list).
+ */
+export async function pairFinished(dir: string, id: string, settingsHash: string): Promise<boolean> {
+  try {
+    const rec = JSON.parse(await fsp.readFile(layout.pairRecord(dir, id), 'utf8')) as { settingsHash?: unknown } | null;
+    return !!rec && rec.settingsHash === settingsHash;
+  } catch {
+    return false;
+  }
 }
 
 function interleave(a: Float64Array, b: Float64Array): Float64Array {
