@@ -335,12 +335,12 @@ export function register(program: Command): void {
     .option('--mask <file>', 'mask image: non-zero pixels are measured, zero pixels ignored')
     .option('--flow-free <x0,y0,x1,y1>', 'region without flow (px) used to remove camera shake')
     .option('--format <list>', `result formats per pair, comma list of ${FORMATS.join(', ')} (default ${DEFAULTS.formats.join(',')}; npy is always written)`)
-    .option('--workers <n>', 'worker threads, one pair each (default: one per core, or SLURM_CPUS_PER_TASK)')
+    .option('--workers <n>', 'worker threads, one pair each (default: one per core, or SLURM_CPUS_PER_TASK; capped at the cores, except in --emit-job-script)')
     .option('--max-memory <size>', MAX_MEMORY_HELP)
     .option('--shard <K/N>', 'process only the K-th of N contiguous parts of the frames (default from SLURM_ARRAY_TASK_* when set)')
     .option('--emit-job-script <file>', 'write a SLURM sbatch script running this batch as a job array, then exit')
     .option('--array-tasks <n>', 'number of job-array tasks for --emit-job-script (default 4)')
-    .option('--force', 'discard existing results in --out first (refused with --shard)')
+    .option('--force', 'discard existing results in --out first: only files rhofield wrote, other files stay (refused with --shard)')
     .option('--accept-mismatch', 'keep pairs whose two images do not show the same background (by default such a pair is recorded as failed; see rhofield displacement --help)')
     .option('--json', 'print a JSON summary on stdout')
     .option('--quiet', 'no messages on stderr except warnings and errors')
@@ -354,6 +354,7 @@ Output folder:
   failed/<frame id>.json  error of a failed pair (retried by the next run)
   statistics/             displacement_mean|std|count.npy, density_mean|std|count.npy, statistics.json
   shards/<K>-of-<N>/      partial statistics of one shard; combine with: rhofield merge OUT
+  Each folder lists the files rhofield wrote in .rhofield-manifest.json; only those are ever replaced.
 
 Examples:
   rhofield batch --reference ref.tif --frames "run1/frame_%05d.tif" --setup setup.json --out out/run1
