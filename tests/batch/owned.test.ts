@@ -100,6 +100,23 @@ describe('owned files in a batch folder (fake processor)', () => {
     expect(again.warnings.some((w) => w.startsWith(`kept ${theirs}:`))).toBe(true);
   });
 
+  it('a user file where a pair folder belongs stays; that pair fails naming it, the others are redone', async () => {
+    const out = tmp();
+    const jobs = jobsOf(3);
+    await run(plan(out, jobs));
+    const { rmSync } = await import('node:fs');
+    const spot = path.join(out, 'pairs', jobs[1]!.id);
+    rmSync(spot, { recursive: true });
+    writeFileSync(spot, 'a file of mine');
+    const before = sha(spot);
+    const { r, warnings } = await run(plan(out, jobs, {}, { settings: { windowPx: 16 }, force: true }));
+    expect(sha(spot)).toBe(before);
+    expect(warnings.some((w) => w.includes(spot))).toBe(true);
+    expect(r.failed.map((f) => f.id)).toEqual([jobs[1]!.id]);
+    expect(r.failed[0]!.error).toContain(spot);
+    expect(r.processed).toBe(2);
+  });
+
   it('--force removes staging folders of a killed run and keeps everything in a folder whose list is damaged', async () => {
     const out = tmp();
     const jobs = jobsOf(3);

@@ -19,6 +19,9 @@ import { RhofieldError } from '@rhofield/core';
 import { MANIFEST_NAME, entryOf, manifestText, ownedEntries, ownerTag, readManifest, safeName, takeLock, type ManifestEntry, type OutputManifest } from '../outputs.js';
 import { writeAtomic } from './folders.js';
 
+/** The lock ../outputs.ts takes while it updates a folder's files (a dead owner's is taken over by the next one). */
+const LOCK_NAME = '.rhofield-commit-lock';
+
 /** Receives one warning line (without the `rhofield: warning:` prefix). */
 export type Warn = (msg: string) => void;
 
@@ -66,7 +69,13 @@ export async function removeOwned(dir: string, warn: Warn): Promise<boolean> {
   try {
     names = await fsp.readdir(dir);
   } catch (e) {
-    if ((e as NodeJS.ErrnoException).code === 'ENOENT') return true;
+    const code = (e as NodeJS.ErrnoException).code;
+    if (code === 'ENOENT') return true;
+    if (code === 'ENOTDIR') {
+      // a file of the user's where the batch keeps a folder
+      warn(`kept ${dir}: rhofield did not write it`);
+      return false;
+    }
     throw e;
   }
   const m = await manifestOrNull(dir, warn);
@@ -74,11 +83,16 @@ export async function removeOwned(dir: string, warn: Warn): Promise<boolean> {
   const foreign: string[] = [];
   for (const n of names) {
     if (n === MANIFEST_NAME) continue;
+    // the commit lock of a live process (failed/ is updated under it): that process's, not the user's
+    if (n === LOCK_NAME) {
+      foreign.push(n);
+      continue;
+    }
     if (owned.has(n)) await fsp.rm(path.join(dir, n), { force: true });
     else foreign.push(n);
   }
   if (foreign.length > 0) {
-    for (const n of foreign) warn(keptLine(dir, n));
+    for (const n of foreign) if (n !== LOCK_NAME) warn(keptLine(dir, n));
     // nothing of ours is left to list (a damaged list stays, as reported)
     if (m) await fsp.rm(path.join(dir, MANIFEST_NAME), { force: true });
     return false;
