@@ -270,7 +270,8 @@ export async function batchCommand(o: BatchOpts, executorFactory?: (workers: num
           else log.debug(`pair ${e.id} ${e.ok ? 'done' : 'failed'} (${e.done}/${e.total})`);
         },
         debug: (m) => log.debug(m),
-        warn: (m) => log.warn(m),
+        // paths inside --out as the user typed it
+        warn: (m) => log.warn(outDir === o.out ? m : m.split(outDir + path.sep).join(path.join(o.out, path.sep)).split(outDir).join(o.out)),
       },
       provenance(),
     );

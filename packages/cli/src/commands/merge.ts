@@ -35,7 +35,9 @@ export function register(program: Command): void {
     .action(async (dir: string, o: MergeOpts) => {
       const log = new Log(o);
       // a full or read-only disk names the batch folder, never the statistics' staging folder
-      const r = await mergeBatch(dir, (m) => log.warn(m)).catch((e: unknown) => Promise.reject(asTyped(storageError(e, 'batch folder', dir), dir)));
+      const abs = path.resolve(dir);
+      const typed = (m: string): string => (abs === dir ? m : m.split(abs + path.sep).join(path.join(dir, path.sep)).split(abs).join(dir));
+      const r = await mergeBatch(dir, (m) => log.warn(typed(m))).catch((e: unknown) => Promise.reject(asTyped(storageError(e, 'batch folder', dir), dir)));
       log.info(`merged ${r.shards} shard(s): statistics over ${r.pairsUsed} of ${r.pairsTotal} pairs in ${r.folder}`);
       if (r.failed.length) log.warn(`${r.failed.length} pair(s) are missing from the statistics (failed): ${r.failed.slice(0, 10).join(', ')}${r.failed.length > 10 ? ', …' : ''}`);
       log.json({ command: 'merge', dir: path.resolve(dir), ...r });
