@@ -17,14 +17,14 @@ import {
   measureDisplacement,
   parseFormats,
   pixelMapping,
-  reconstructDensity,
   writeFieldSet,
   type DisplacementEngine,
   type FieldSetFormat,
-  type Setup,
-} from '@rhofield/core';
+} from '@rhofield/core/pair';
+import type { Setup } from '@rhofield/core/setup';
+import type { reconstructDensity } from '@rhofield/core/reconstruct';
 import { provenance, sha256File } from './common.js';
-import { checkLoadedPair, checkMeasuredPair, withSetupFile } from './inputChecks.js';
+import { checkMeasuredPair, withSetupFile } from './inputChecks.js';
 
 /** Options of one pair (JSON-able: it crosses to batch workers). */
 export interface PairOptions {
@@ -62,7 +62,8 @@ export type StageCallback = (stage: string, fraction: number) => void;
 
 /**
  * Process one pair into `outDir` (existing and empty). Returns the summary written to result.json.
- * `engine`: the displacement engine to reuse (e.g. one per batch worker); default: measureDisplacement's.
+ * `engine`: the displacement engine to use (e.g. one per batch worker, or one whose workers were
+ * started while the command read the headers); default: measureDisplacement's.
  */
 export async function processPair(job: PairJob, outDir: string, onStage: StageCallback = () => {}, engine?: DisplacementEngine): Promise<Record<string, unknown>> {
   const o = job.options;
@@ -78,15 +79,18 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
   };
 
   onStage('loading images', 0);
+  // in shared memory: the measurement's worker threads read the images in place
   const [refImg, measImg] = await t('load', () =>
-    Promise.all([loadImage(job.refPath, job.refPage !== undefined ? { page: job.refPage } : {}), loadImage(job.measPath, job.measPage !== undefined ? { page: job.measPage } : {})]),
+    Promise.all([
+      loadImage(job.refPath, { shared: true, ...(job.refPage !== undefined ? { page: job.refPage } : {}) }),
+      loadImage(job.measPath, { shared: true, ...(job.measPage !== undefined ? { page: job.measPage } : {}) }),
+    ]),
   );
   if (refImg.width !== measImg.width || refImg.height !== measImg.height) {
     throw inputError(
       `images differ in size: reference ${job.refPath} is ${refImg.width}×${refImg.height}, measurement ${job.measPath} is ${measImg.width}×${measImg.height}; use a pair from the same camera and crop`,
     );
   }
-  checkLoadedPair(refImg.field, measImg.field, job.refPath, job.measPath);
   const mask = o.maskPath ? await t('mask', () => loadMask(o.maskPath!, { width: refImg.width, height: refImg.height })) : undefined;
   // input hashes for result.json: read on the thread pool while the workers measure
   const hashes = Promise.all([
@@ -107,9 +111,11 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
       ...(o.threads !== undefined ? { threads: o.threads } : {}),
       ...(o.interpolation ? { interpolation: o.interpolation } : {}),
       ...(engine ? { engine } : {}),
+      // a textureless image is refused by the measurement, named by its file
+      imageNames: { ref: `reference ${job.refPath}`, meas: `measurement ${job.measPath}` },
     }),
   );
-  const inputWarnings = checkMeasuredPair(disp, { refPath: job.refPath, measPath: job.measPath, maskPath: o.maskPath, setupPath: o.setupPath }, { acceptMismatch: o.acceptMismatch, setup: o.setup, width: refImg.width, height: refImg.height });
+  const inputWarnings = await checkMeasuredPair(disp, { refPath: job.refPath, measPath: job.measPath, maskPath: o.maskPath, setupPath: o.setupPath }, { acceptMismatch: o.acceptMismatch, setup: o.setup, width: refImg.width, height: refImg.height });
 
   const setup = o.setup ?? null;
   let mapping: ReturnType<typeof pixelMapping> | null = null;
@@ -149,6 +155,8 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
   let density: ReturnType<typeof reconstructDensity> | null = null;
   if (setup) {
     onStage('reconstructing density', 0.88);
+    // the reconstruction modules load only for density work
+    const { reconstructDensity } = await import('@rhofield/core/reconstruct');
     density = await t('reconstruct', () => reconstructDensity(disp, setup)).catch((e: unknown) => Promise.reject(withSetupFile(e, o.setupPath ?? 'setup', false)));
     onStage('writing density files', 0.92);
     await t('write_density', async () => {

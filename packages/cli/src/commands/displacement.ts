@@ -3,7 +3,7 @@
  * the single-pair commands. Both share the displacement options; density adds the setup.
  */
 import type { Command } from 'commander';
-import { capThreads, describeSchedule, estimateMemory, formatBytes, invalidParameter, loadSetup, RhofieldError } from '@rhofield/core';
+import { capThreads, createDisplacementEngine, describeSchedule, estimateMemory, formatBytes, invalidParameter, RhofieldError, type DisplacementEngine } from '@rhofield/core/pair';
 import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, requireFile, StageProgress, type GlobalOpts } from '../common.js';
 import { DEFAULT_FORMATS, processPair, type PairOptions } from '../pipeline.js';
 import { checkMemory, imageHeaders, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
@@ -108,9 +108,22 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
   });
   checkMemory(`${ref} and ${meas} (${head.width}×${head.height} px)`, estimate, budget, estimate.bytes, undefined, head);
   log.debug(`estimated working set ${formatBytes(estimate.bytes)} (budget ${formatBytes(budget.bytes)})`);
+  // the workers start now, while the rest is checked and the images decode, not in the first stage
+  const engine = createDisplacementEngine(options.threads !== undefined ? { threads: options.threads } : {});
+  engine.prestart(head.width, head.height);
+  try {
+    await measurePair(kind, ref, meas, o, options, log, engine);
+  } finally {
+    await engine.dispose();
+  }
+}
+
+async function measurePair(kind: 'displacement' | 'density', ref: string, meas: string, o: PairCliOpts, options: PairOptions, log: Log, engine: DisplacementEngine): Promise<void> {
   if (kind === 'density') {
     if (!o.setup) throw invalidParameter('--setup', 'a setup file (JSON, see README)', undefined);
     requireFile('setup file', o.setup);
+    // the setup parser (and its schema library) loads only for density
+    const { loadSetup } = await import('@rhofield/core/setup');
     options.setup = loadSetup(o.setup);
     options.setupPath = o.setup;
   }
@@ -127,6 +140,7 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
         progress.stage(stage, fraction);
         log.debug(`stage: ${stage}`);
       },
+      engine,
     );
     // the banner only once the inputs (images, mask, the pair's match, the setup) passed their checks
     log.info(`rhofield ${kind}: ${ref} → ${meas}`);

@@ -93,6 +93,12 @@ export interface MeasureDisplacementOptions {
    * highest other local maximum anywhere). The first pass always uses the FFT plane.
    */
   refine?: 'direct' | 'fft';
+  /**
+   * How error messages name the two images (default `reference image` and `measurement image`); a
+   * caller that loaded them from files passes e.g. `reference flat.png`, so that the textureless or
+   * non-finite image is named as the user knows it without a check of the caller's own.
+   */
+  imageNames?: { ref?: string; meas?: string };
 }
 
 /** Per-pass report. */
@@ -171,7 +177,7 @@ function texture(name: string, f: Field): number {
   }
   for (; i < n; i++) {
     const v = d[i]!;
-    if (v - v !== 0) throw inputError(`${name} image has a non-finite value (${v}) at pixel (${i % f.width}, ${Math.floor(i / f.width)}); images must be finite counts`);
+    if (v - v !== 0) throw inputError(`${name} has a non-finite value (${v}) at pixel (${i % f.width}, ${Math.floor(i / f.width)}); images must be finite counts`);
     s0 += v;
   }
   const m = (s0 + s1 + s2 + s3) / n;
@@ -195,6 +201,22 @@ function texture(name: string, f: Field): number {
     v0 += a * a;
   }
   return Math.sqrt((v0 + v1 + v2 + v3) / n);
+}
+
+/** The thread count a measurement asks for (option, else the engine's default, else by image size), validated. */
+function askedThreads(width: number, height: number, threads: number | undefined, defaultThreads: number | undefined): number {
+  const asked = threads ?? defaultThreads ?? (width * height >= 1_000_000 ? availableCores() : 1);
+  if (!Number.isInteger(asked) || asked < 1 || asked > 256) throw invalidParameter('threads', 'an integer from 1 to 256', threads);
+  return asked;
+}
+
+/**
+ * Threads (calling thread + workers) of a measurement of a `width`×`height` image with the `threads`
+ * option and the engine's default, capped at the cores as {@link measureDisplacement} does (internal:
+ * lets an engine start its workers before the call).
+ */
+export function measurementThreads(width: number, height: number, threads: number | undefined, defaultThreads: number | undefined): number {
+  return capThreads(askedThreads(width, height, threads, defaultThreads)).threads;
 }
 
 /** Validated options with defaults. */
@@ -232,10 +254,8 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions, default
   const medianEpsilonPx = o.medianEpsilonPx ?? 0.1;
   if (typeof medianEpsilonPx !== 'number' || !(medianEpsilonPx >= 0) || !Number.isFinite(medianEpsilonPx))
     throw invalidParameter('medianEpsilonPx', 'a number ≥ 0 (px; 0.1 is usual)', o.medianEpsilonPx);
-  const asked = o.threads ?? defaultThreads ?? (ref.width * ref.height >= 1_000_000 ? availableCores() : 1);
-  if (!Number.isInteger(asked) || asked < 1 || asked > 256) throw invalidParameter('threads', 'an integer from 1 to 256', o.threads);
   const warnings: string[] = [];
-  const { threads, warning } = capThreads(asked, 'threads');
+  const { threads, warning } = capThreads(askedThreads(ref.width, ref.height, o.threads, defaultThreads), 'threads');
   if (warning) warnings.push(warning);
   const mask = o.mask;
   if (mask !== undefined) {
@@ -249,12 +269,17 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions, default
     const ok = Array.isArray(region) && region.length === 4 && region.every((v) => typeof v === 'number' && Number.isFinite(v)) && region[0] <= region[2] && region[1] <= region[3];
     if (!ok) throw invalidParameter('flowFreeRegionPx', '[x0, y0, x1, y1] in image pixels with x0 ≤ x1 and y0 ≤ y1', region);
   }
-  const sdRef = texture('reference', ref);
+  const names = o.imageNames ?? {};
+  if (names === null || typeof names !== 'object' || (names.ref !== undefined && typeof names.ref !== 'string') || (names.meas !== undefined && typeof names.meas !== 'string'))
+    throw invalidParameter('imageNames', '{ ref?: string, meas?: string }', o.imageNames);
+  const refName = names.ref ?? 'reference image';
+  const measName = names.meas ?? 'measurement image';
+  const sdRef = texture(refName, ref);
   if (!(sdRef > 1e-6 * Math.max(1, Math.abs(ref.data[0]!))))
-    throw inputError(`reference image has no texture (standard deviation ${sdRef.toPrecision(3)}); check the file/exposure`);
-  const sdMeas = texture('measurement', meas);
+    throw inputError(`${refName} has no texture (standard deviation ${sdRef.toPrecision(3)}); check the file/exposure`);
+  const sdMeas = texture(measName, meas);
   if (!(sdMeas > 1e-6 * Math.max(1, Math.abs(meas.data[0]!))))
-    throw inputError(`measurement image has no texture (standard deviation ${sdMeas.toPrecision(3)}); check the file/exposure`);
+    throw inputError(`${measName} has no texture (standard deviation ${sdMeas.toPrecision(3)}); check the file/exposure`);
   const keepPeakRatio = o.medianKeepPeakRatio ?? 3;
   if (typeof keepPeakRatio !== 'number' || !(keepPeakRatio >= 1))
     throw invalidParameter('medianKeepPeakRatio', 'a number ≥ 1 (or Infinity to replace every flagged vector)', o.medianKeepPeakRatio);
@@ -273,8 +298,10 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions, default
 export interface MeasureResources {
   /** The calling thread's scratch. */
   workspace: EngineWorkspace;
-  /** Six full-size image buffers, two 2×2-binned ones and a mask buffer (SharedArrayBuffers if `shared`). */
+  /** Four full-size work buffers, two 2×2-binned ones and a mask buffer (SharedArrayBuffers if `shared`). */
   buffers(width: number, height: number, shared: boolean): { bufs: Float32Array[]; bins: Float32Array[]; mask: Uint8Array };
+  /** Two full-size buffers for copies of the input images (SharedArrayBuffers if `shared`). */
+  inputs(width: number, height: number, shared: boolean): Float32Array[];
   /** A pool of `size` worker threads. */
   pool(size: number): Promise<EnginePool>;
 }
@@ -373,13 +400,21 @@ export async function runMeasurement(ref: Field, meas: Field, options: MeasureDi
 
   // images
   const { bufs, bins, mask: maskBuf } = res.buffers(width, height, shared);
+  // the workers read the images in place when they already live in shared memory (e.g. loaded with
+  // loadImage's `shared` option), else from copies in the engine's shared buffers
+  const inShared = (d: Float32Array): boolean => !shared || d.buffer instanceof SharedArrayBuffer;
   let refData = ref.data;
   let measData = meas.data;
-  if (shared) {
-    bufs[0]!.set(ref.data);
-    bufs[1]!.set(meas.data);
-    refData = bufs[0]!;
-    measData = bufs[1]!;
+  if (!inShared(refData) || !inShared(measData)) {
+    const inputs = res.inputs(width, height, shared);
+    if (!inShared(refData)) {
+      inputs[0]!.set(ref.data);
+      refData = inputs[0]!;
+    }
+    if (!inShared(measData)) {
+      inputs[1]!.set(meas.data);
+      measData = inputs[1]!;
+    }
   }
   if (o.mask) maskBuf.set(o.mask.data);
   const img: EngineImages = {
@@ -387,10 +422,10 @@ export async function runMeasurement(ref: Field, meas: Field, options: MeasureDi
     height,
     ref: refData,
     meas: measData,
-    coefRef: bufs[2]!,
-    coefMeas: bufs[3]!,
-    defRef: bufs[4]!,
-    defMeas: bufs[5]!,
+    coefRef: bufs[0]!,
+    coefMeas: bufs[1]!,
+    defRef: bufs[2]!,
+    defMeas: bufs[3]!,
     mask: o.mask ? maskBuf : null,
     binRef: bins[0]!,
     binMeas: bins[1]!,
