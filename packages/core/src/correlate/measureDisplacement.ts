@@ -154,53 +154,34 @@ function checkField(name: string, f: unknown): Field {
   return g;
 }
 
-function texture(name: string, f: Field): number {
-  const d = f.data;
-  const n = d.length;
-  // four partial sums: independent additions run side by side
-  let s0 = 0;
-  let s1 = 0;
-  let s2 = 0;
-  let s3 = 0;
-  let i = 0;
-  for (; i + 3 < n; i += 4) {
-    const a = d[i]!;
-    const b = d[i + 1]!;
-    const c = d[i + 2]!;
-    const e = d[i + 3]!;
-    // v − v is 0 for a finite value, NaN for ±Infinity and NaN
-    if (a - a + (b - b) + (c - c) + (e - e) !== 0) break;
-    s0 += a;
-    s1 += b;
-    s2 += c;
-    s3 += e;
+/**
+ * Refuse an image whose grey values do not vary (blank frame, lens cap) or that holds a non-finite
+ * value, from per-chunk sums computed by the engine's threads (one pass over both images, split over
+ * the threads, instead of two passes on the calling thread).
+ */
+async function checkTexture(img: EngineImages, stage: (task: EngineTask) => Promise<void>, shared: boolean, names: { ref: string; meas: string }): Promise<void> {
+  const per = Math.ceil(img.height / CHUNK.stats);
+  const out = sharedF64(3 * 2 * per, shared);
+  await stage({ op: 'stats', out });
+  const n = img.width * img.height;
+  for (let im = 0; im < 2; im++) {
+    const name = im === 0 ? names.ref : names.meas;
+    const d = im === 0 ? img.ref : img.meas;
+    let sum = 0;
+    let sq = 0;
+    for (let c = im * per; c < (im + 1) * per; c++) {
+      const bad = out[3 * c + 2]!;
+      if (bad >= 0) {
+        const v = d[bad]!;
+        throw inputError(`${name} has a non-finite value (${v}) at pixel (${bad % img.width}, ${Math.floor(bad / img.width)}); images must be finite counts`);
+      }
+      sum += out[3 * c]!;
+      sq += out[3 * c + 1]!;
+    }
+    const mean = sum / n;
+    const sd = Math.sqrt(Math.max(0, sq / n - mean * mean));
+    if (!(sd > 1e-6 * Math.max(1, Math.abs(d[0]!)))) throw inputError(`${name} has no texture (standard deviation ${sd.toPrecision(3)}); check the file/exposure`);
   }
-  for (; i < n; i++) {
-    const v = d[i]!;
-    if (v - v !== 0) throw inputError(`${name} has a non-finite value (${v}) at pixel (${i % f.width}, ${Math.floor(i / f.width)}); images must be finite counts`);
-    s0 += v;
-  }
-  const m = (s0 + s1 + s2 + s3) / n;
-  let v0 = 0;
-  let v1 = 0;
-  let v2 = 0;
-  let v3 = 0;
-  i = 0;
-  for (; i + 3 < n; i += 4) {
-    const a = d[i]! - m;
-    const b = d[i + 1]! - m;
-    const c = d[i + 2]! - m;
-    const e = d[i + 3]! - m;
-    v0 += a * a;
-    v1 += b * b;
-    v2 += c * c;
-    v3 += e * e;
-  }
-  for (; i < n; i++) {
-    const a = d[i]! - m;
-    v0 += a * a;
-  }
-  return Math.sqrt((v0 + v1 + v2 + v3) / n);
 }
 
 /** The thread count a measurement asks for (option, else the engine's default, else by image size), validated. */
@@ -234,6 +215,7 @@ interface Resolved {
   refine: 'direct' | 'fft';
   region: readonly [number, number, number, number] | undefined;
   warnings: string[];
+  imageNames: { ref: string; meas: string };
 }
 
 function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions, defaultThreads: number | undefined): Resolved {
@@ -272,14 +254,7 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions, default
   const names = o.imageNames ?? {};
   if (names === null || typeof names !== 'object' || (names.ref !== undefined && typeof names.ref !== 'string') || (names.meas !== undefined && typeof names.meas !== 'string'))
     throw invalidParameter('imageNames', '{ ref?: string, meas?: string }', o.imageNames);
-  const refName = names.ref ?? 'reference image';
-  const measName = names.meas ?? 'measurement image';
-  const sdRef = texture(refName, ref);
-  if (!(sdRef > 1e-6 * Math.max(1, Math.abs(ref.data[0]!))))
-    throw inputError(`${refName} has no texture (standard deviation ${sdRef.toPrecision(3)}); check the file/exposure`);
-  const sdMeas = texture(measName, meas);
-  if (!(sdMeas > 1e-6 * Math.max(1, Math.abs(meas.data[0]!))))
-    throw inputError(`${measName} has no texture (standard deviation ${sdMeas.toPrecision(3)}); check the file/exposure`);
+  const imageNames = { ref: names.ref ?? 'reference image', meas: names.meas ?? 'measurement image' };
   const keepPeakRatio = o.medianKeepPeakRatio ?? 3;
   if (typeof keepPeakRatio !== 'number' || !(keepPeakRatio >= 1))
     throw invalidParameter('medianKeepPeakRatio', 'a number ≥ 1 (or Infinity to replace every flagged vector)', o.medianKeepPeakRatio);
@@ -291,7 +266,7 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions, default
     throw invalidParameter('interpolation', "'lanczos4' or 'bspline3'", o.interpolation);
   const refine = o.refine ?? 'direct';
   if (refine !== 'direct' && refine !== 'fft') throw invalidParameter('refine', "'direct' or 'fft'", o.refine);
-  return { windowPx, stepPx, passes, medianThreshold, medianEpsilonPx, threads, mask, keepPeakRatio, keepCorrelation, interpolation, refine, region, warnings };
+  return { windowPx, stepPx, passes, medianThreshold, medianEpsilonPx, threads, mask, keepPeakRatio, keepCorrelation, interpolation, refine, region, warnings, imageNames };
 }
 
 /** What a measurement works with: its engine's buffers, workspace and workers (see DisplacementEngine). */
@@ -316,6 +291,10 @@ export function releaseDisplacementBuffers(): void {
 
 function sharedF32(n: number, shared: boolean): Float32Array {
   return shared ? new Float32Array(new SharedArrayBuffer(4 * n)) : new Float32Array(n);
+}
+
+function sharedF64(n: number, shared: boolean): Float64Array {
+  return shared ? new Float64Array(new SharedArrayBuffer(8 * n)) : new Float64Array(n);
 }
 
 /**
@@ -437,6 +416,7 @@ export async function runMeasurement(ref: Field, meas: Field, options: MeasureDi
     const n = chunkCount(img, task);
     for (let k = 0; k < n; k++) runChunk(img, task, k, ws);
   };
+  await checkTexture(img, stage, shared, o.imageNames);
   const sat = o.mask ? summedArea(o.mask) : null;
   const t1 = performance.now();
 
