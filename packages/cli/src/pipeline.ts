@@ -78,6 +78,9 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
     }
   };
 
+  // density work: the reconstruction modules load while the images decode (the thread mostly waits)
+  const reconstruction = o.setup ? import('@rhofield/core/reconstruct') : null;
+  reconstruction?.catch(() => {}); // awaited below; a failed measurement must not leave an unhandled rejection
   onStage('loading images', 0);
   // in shared memory: the measurement's worker threads read the images in place
   const [refImg, measImg] = await t('load', () =>
@@ -155,8 +158,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
   let density: ReturnType<typeof reconstructDensity> | null = null;
   if (setup) {
     onStage('reconstructing density', 0.88);
-    // the reconstruction modules load only for density work
-    const { reconstructDensity } = await import('@rhofield/core/reconstruct');
+    const { reconstructDensity } = await reconstruction!;
     density = await t('reconstruct', () => reconstructDensity(disp, setup)).catch((e: unknown) => Promise.reject(withSetupFile(e, o.setupPath ?? 'setup', false)));
     onStage('writing density files', 0.92);
     await t('write_density', async () => {

@@ -10,7 +10,7 @@ import { lanczos4Row, sampleLanczos4 } from './lanczos.js';
 import { createSimdKernels, type SimdKernels } from './simdKernels.js';
 import { DirectWindowCorrelator } from './directCorrelator.js';
 import { FftWindowCorrelator, type CorrelationOutputs } from './fftCorrelator.js';
-import { axisTaps, type GridAxis } from './predictor.js';
+import { axisTaps, predictorRows, type GridAxis } from './predictor.js';
 
 /** Images of one measurement. */
 export interface EngineImages {
@@ -86,10 +86,23 @@ export interface StatsTask {
   out: Float64Array;
 }
 
-export type EngineTask = PrefilterTask | DeformTask | CorrelateTask | BinTask | StatsTask;
+/** The predictor of a deformation pass interpolated along x (see predictorRows), per chunk of grid rows. */
+export interface PredictorRowsTask {
+  op: 'predictorRows';
+  /** Previous pass's field (cols × rows of the grid `ax` × `rows`), px. */
+  gx: Float32Array;
+  gy: Float32Array;
+  ax: GridAxis;
+  rows: number;
+  /** Outputs, rows × image width. */
+  predX: Float32Array;
+  predY: Float32Array;
+}
+
+export type EngineTask = PrefilterTask | DeformTask | CorrelateTask | BinTask | StatsTask | PredictorRowsTask;
 
 /** Rows (or columns, or grid rows) per chunk of each stage. */
-export const CHUNK = { prefilterRows: 64, prefilterCols: 64, deform: 32, correlate: 1, bin: 64, stats: 64 } as const;
+export const CHUNK = { prefilterRows: 64, prefilterCols: 64, deform: 32, correlate: 1, bin: 64, stats: 64, predictorRows: 8 } as const;
 
 /** Number of chunks of a task. */
 export function chunkCount(img: EngineImages, task: EngineTask): number {
@@ -106,6 +119,8 @@ export function chunkCount(img: EngineImages, task: EngineTask): number {
       return 2 * Math.ceil((img.height >> 1) / CHUNK.bin);
     case 'stats':
       return 2 * Math.ceil(img.height / CHUNK.stats);
+    case 'predictorRows':
+      return Math.ceil(task.rows / CHUNK.predictorRows);
   }
 }
 
@@ -202,6 +217,11 @@ export function runChunk(img: EngineImages, task: EngineTask, k: number, ws: Eng
       const r0 = k * CHUNK.correlate;
       const r1 = Math.min(task.rows, r0 + CHUNK.correlate);
       correlateRows(img, task, r0, r1, ws);
+      return;
+    }
+    case 'predictorRows': {
+      const r0 = k * CHUNK.predictorRows;
+      predictorRows(task.gx, task.gy, task.ax, task.rows, width, task.predX, task.predY, r0, Math.min(task.rows, r0 + CHUNK.predictorRows));
       return;
     }
     case 'stats': {

@@ -9,7 +9,7 @@ import { availableCores, capThreads } from './capThreads.js';
 import { releaseDefaultBuffers, withDefaultEngine, type DisplacementEngine } from './displacementEngine.js';
 import { CHUNK, chunkCount, runChunk, type CorrelateTask, type EngineImages, type EngineTask, type EngineWorkspace } from './engine.js';
 import { fillHoles, normalizedMedianTest, replaceByNeighbourMedian } from './normalizedMedianTest.js';
-import { predictorAt, predictorRows, type GridAxis } from './predictor.js';
+import { predictorAt, type GridAxis } from './predictor.js';
 import { buildSchedule, type PassPlan } from './schedule.js';
 import { VectorStatus, type DisplacementField, type VectorGrid } from './types.js';
 import { windowGrid } from './windowGrid.js';
@@ -450,7 +450,7 @@ export async function runMeasurement(ref: Field, meas: Field, options: MeasureDi
       pAy = { origin: pg.yPx[0]!, step: pg.rows > 1 ? pg.yPx[1]! - pg.yPx[0]! : 1, count: pg.rows };
       const predX = sharedF32(pg.rows * width, shared);
       const predY = sharedF32(pg.rows * width, shared);
-      predictorRows(prev.dx, prev.dy, pAx, pg.rows, width, predX, predY);
+      await stage({ op: 'predictorRows', gx: prev.dx, gy: prev.dy, ax: pAx, rows: pg.rows, predX, predY });
       await stage({ op: 'deform', interpolation: pi === schedule.length - 1 ? o.interpolation : 'keys', predX, predY, ay: pAy });
       source = 'deformed';
     } else if (o.mask) {
@@ -535,8 +535,11 @@ export async function runMeasurement(ref: Field, meas: Field, options: MeasureDi
     reports.push({ ...plan, cols: grid.cols, rows: grid.rows, outliers, ms: { deform: tb - ta, correlate: tc - tb, validate: td - tc } });
     last = { grid, out, active, flagged };
     if (pi < schedule.length - 1) {
-      const px = out.dx.slice();
-      const py = out.dy.slice();
+      // in shared memory: the workers interpolate it for the next pass
+      const px = sharedF32(n, shared);
+      const py = sharedF32(n, shared);
+      px.set(out.dx);
+      py.set(out.dy);
       fillHoles(px, py, grid.cols, grid.rows);
       prev = { grid, dx: px, dy: py };
     }
