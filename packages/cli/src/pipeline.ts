@@ -62,8 +62,7 @@ export type StageCallback = (stage: string, fraction: number) => void;
 
 /**
  * Process one pair into `outDir` (existing and empty). Returns the summary written to result.json.
- * `engine`: the displacement engine to use (e.g. one per batch worker, or one whose workers were
- * started while the command read the headers); default: measureDisplacement's.
+ * `engine`: the displacement engine to reuse (e.g. one per batch worker); default: measureDisplacement's.
  */
 export async function processPair(job: PairJob, outDir: string, onStage: StageCallback = () => {}, engine?: DisplacementEngine): Promise<Record<string, unknown>> {
   const o = job.options;

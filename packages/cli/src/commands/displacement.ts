@@ -3,7 +3,7 @@
  * the single-pair commands. Both share the displacement options; density adds the setup.
  */
 import type { Command } from 'commander';
-import { capThreads, createDisplacementEngine, describeSchedule, estimateMemory, formatBytes, invalidParameter, RhofieldError, type DisplacementEngine } from '@rhofield/core/pair';
+import { capThreads, describeSchedule, estimateMemory, formatBytes, invalidParameter, RhofieldError } from '@rhofield/core/pair';
 import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, requireFile, StageProgress, type GlobalOpts } from '../common.js';
 import { DEFAULT_FORMATS, processPair, type PairOptions } from '../pipeline.js';
 import { checkMemory, imageHeaders, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
@@ -108,17 +108,6 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
   });
   checkMemory(`${ref} and ${meas} (${head.width}×${head.height} px)`, estimate, budget, estimate.bytes, undefined, head);
   log.debug(`estimated working set ${formatBytes(estimate.bytes)} (budget ${formatBytes(budget.bytes)})`);
-  // the workers start now, while the rest is checked and the images decode, not in the first stage
-  const engine = createDisplacementEngine(options.threads !== undefined ? { threads: options.threads } : {});
-  engine.prestart(head.width, head.height);
-  try {
-    await measurePair(kind, ref, meas, o, options, log, engine);
-  } finally {
-    await engine.dispose();
-  }
-}
-
-async function measurePair(kind: 'displacement' | 'density', ref: string, meas: string, o: PairCliOpts, options: PairOptions, log: Log, engine: DisplacementEngine): Promise<void> {
   if (kind === 'density') {
     if (!o.setup) throw invalidParameter('--setup', 'a setup file (JSON, see README)', undefined);
     requireFile('setup file', o.setup);
@@ -140,7 +129,6 @@ async function measurePair(kind: 'displacement' | 'density', ref: string, meas: 
         progress.stage(stage, fraction);
         log.debug(`stage: ${stage}`);
       },
-      engine,
     );
     // the banner only once the inputs (images, mask, the pair's match, the setup) passed their checks
     log.info(`rhofield ${kind}: ${ref} → ${meas}`);

@@ -9,14 +9,13 @@
  * parallel, use one engine per concurrent job (e.g. one per batch worker).
  *
  * Keeping an engine between calls saves the start of the workers (about 0.6 s) and the first writes
- * to fresh buffers. {@link DisplacementEngine.prestart} starts the workers ahead of the first call, so
- * that their start overlaps other work (e.g. decoding the images). An idle engine does not keep the
- * process alive (idle workers are unref'd); `dispose()` frees its workers and buffers at once.
+ * to fresh buffers. An idle engine does not keep the process alive (idle workers are unref'd);
+ * `dispose()` frees its workers and buffers at once.
  */
 import { invalidParameter, RhofieldError } from '../util/errors.js';
 import type { Field } from '../util/field.js';
 import { EngineWorkspace } from './engine.js';
-import { measurementThreads, runMeasurement, type DisplacementResult, type MeasureDisplacementOptions, type MeasureResources } from './measureDisplacement.js';
+import { runMeasurement, type DisplacementResult, type MeasureDisplacementOptions, type MeasureResources } from './measureDisplacement.js';
 import { EnginePool } from './workerPool.js';
 
 /** Options of {@link createDisplacementEngine}. */
@@ -86,24 +85,6 @@ export class DisplacementEngine {
     const w = this.workers;
     this.workers = null;
     if (w) await w.close();
-  }
-
-  /**
-   * Start now the worker threads a measurement of a `width`×`height` image will use, so that their
-   * start (about 0.2–0.6 s of module loading and compiling on each thread) overlaps the caller's other
-   * work, typically decoding the images, instead of delaying the first stage. Returns at once; a
-   * later {@link measure} with the same thread count finds the workers running (or starting).
-   * @param threads as the `threads` option of the coming call (default: the engine's, else by image size).
-   * @throws RhofieldError (usage) for a bad size or thread count, or after {@link dispose}.
-   */
-  prestart(width: number, height: number, threads?: number): void {
-    if (this.closed) throw new RhofieldError('usage', 'this displacement engine was disposed; create a new one with createDisplacementEngine()');
-    if (!Number.isInteger(width) || width < 1 || !Number.isInteger(height) || height < 1) throw invalidParameter('width, height', 'the image size in px (integers ≥ 1)', `${width}×${height}`);
-    const n = measurementThreads(width, height, threads, this.threads);
-    if (n > 1) {
-      // queued like a call, so a running measurement keeps its pool
-      this.tail = this.tail.then(() => this.pool(n - 1)).catch(() => undefined);
-    }
   }
 
   /** Drop the image buffers kept for the next call (the workers stay). */

@@ -184,22 +184,6 @@ async function checkTexture(img: EngineImages, stage: (task: EngineTask) => Prom
   }
 }
 
-/** The thread count a measurement asks for (option, else the engine's default, else by image size), validated. */
-function askedThreads(width: number, height: number, threads: number | undefined, defaultThreads: number | undefined): number {
-  const asked = threads ?? defaultThreads ?? (width * height >= 1_000_000 ? availableCores() : 1);
-  if (!Number.isInteger(asked) || asked < 1 || asked > 256) throw invalidParameter('threads', 'an integer from 1 to 256', threads);
-  return asked;
-}
-
-/**
- * Threads (calling thread + workers) of a measurement of a `width`×`height` image with the `threads`
- * option and the engine's default, capped at the cores as {@link measureDisplacement} does (internal:
- * lets an engine start its workers before the call).
- */
-export function measurementThreads(width: number, height: number, threads: number | undefined, defaultThreads: number | undefined): number {
-  return capThreads(askedThreads(width, height, threads, defaultThreads)).threads;
-}
-
 /** Validated options with defaults. */
 interface Resolved {
   windowPx: number;
@@ -236,8 +220,10 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions, default
   const medianEpsilonPx = o.medianEpsilonPx ?? 0.1;
   if (typeof medianEpsilonPx !== 'number' || !(medianEpsilonPx >= 0) || !Number.isFinite(medianEpsilonPx))
     throw invalidParameter('medianEpsilonPx', 'a number ≥ 0 (px; 0.1 is usual)', o.medianEpsilonPx);
+  const asked = o.threads ?? defaultThreads ?? (ref.width * ref.height >= 1_000_000 ? availableCores() : 1);
+  if (!Number.isInteger(asked) || asked < 1 || asked > 256) throw invalidParameter('threads', 'an integer from 1 to 256', o.threads);
   const warnings: string[] = [];
-  const { threads, warning } = capThreads(askedThreads(ref.width, ref.height, o.threads, defaultThreads), 'threads');
+  const { threads, warning } = capThreads(asked, 'threads');
   if (warning) warnings.push(warning);
   const mask = o.mask;
   if (mask !== undefined) {
