@@ -14,12 +14,14 @@ import {
   kernelStatus,
   loadImage,
   loadMask,
-  measureDisplacement,
+  createDisplacementEngine,
   parseFormats,
   pixelMapping,
   writeFieldSet,
   type DisplacementEngine,
+  type DisplacementResult,
   type FieldSetFormat,
+  type LoadedImage,
 } from '@rhofield/core/pair';
 import type { Setup } from '@rhofield/core/setup';
 import type { reconstructDensity } from '@rhofield/core/reconstruct';
@@ -60,26 +62,21 @@ export const DEFAULT_FORMATS = 'npy,csv,png';
 /** Called when the pipeline enters a stage; `fraction` (0–1) is roughly the share of the work done. */
 export type StageCallback = (stage: string, fraction: number) => void;
 
-/**
- * Process one pair into `outDir` (existing and empty). Returns the summary written to result.json.
- * `engine`: the displacement engine to reuse (e.g. one per batch worker); default: measureDisplacement's.
- */
-export async function processPair(job: PairJob, outDir: string, onStage: StageCallback = () => {}, engine?: DisplacementEngine): Promise<Record<string, unknown>> {
-  const o = job.options;
-  const formats: FieldSetFormat[] = parseFormats(o.formats ?? DEFAULT_FORMATS);
-  const timings: Record<string, number> = {};
-  const t = async <T>(stage: string, fn: () => Promise<T> | T): Promise<T> => {
-    const t0 = performance.now();
-    try {
-      return await fn();
-    } finally {
-      timings[stage] = +((performance.now() - t0) / 1000).toFixed(4);
-    }
-  };
+/** What the pipeline keeps of a loaded image once it is measured (everything but the pixels). */
+type ImageFacts = Omit<LoadedImage, 'field'>;
 
-  // density work: the reconstruction modules load while the images decode (the thread mostly waits)
-  const reconstruction = o.setup ? import('@rhofield/core/reconstruct') : null;
-  reconstruction?.catch(() => {}); // awaited below; a failed measurement must not leave an unhandled rejection
+/**
+ * Load the pair (and the mask), start hashing the input files, measure. The pixels stay inside this
+ * function, so that they can be freed while the files are written (lower peak memory). Without
+ * `engine` the measurement runs on an engine of its own, disposed as soon as the field is measured.
+ */
+async function measureFiles(
+  job: PairJob,
+  o: PairOptions,
+  t: <T>(stage: string, fn: () => Promise<T> | T) => Promise<T>,
+  onStage: StageCallback,
+  engine: DisplacementEngine | undefined,
+): Promise<{ disp: DisplacementResult; refImg: ImageFacts; measImg: ImageFacts; hashes: Promise<(string | null)[]> }> {
   onStage('loading images', 0);
   // in shared memory: the measurement's worker threads read the images in place
   const [refImg, measImg] = await t('load', () =>
@@ -103,8 +100,9 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
   ]);
   hashes.catch(() => {}); // awaited below; a failed measurement must not leave an unhandled rejection
   onStage('measuring displacement', 0.05);
+  const own = engine ?? createDisplacementEngine(o.threads !== undefined ? { threads: o.threads } : {});
   const disp = await t('displacement', () =>
-    measureDisplacement(refImg.field, measImg.field, {
+    own.measure(refImg.field, measImg.field, {
       ...(o.windowPx !== undefined ? { windowPx: o.windowPx } : {}),
       ...(o.stepPx !== undefined ? { stepPx: o.stepPx } : {}),
       ...(o.passes !== undefined ? { passes: o.passes } : {}),
@@ -112,11 +110,38 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
       ...(o.flowFreeRegionPx ? { flowFreeRegionPx: o.flowFreeRegionPx } : {}),
       ...(o.threads !== undefined ? { threads: o.threads } : {}),
       ...(o.interpolation ? { interpolation: o.interpolation } : {}),
-      ...(engine ? { engine } : {}),
       // a textureless image is refused by the measurement, named by its file
       imageNames: { ref: `reference ${job.refPath}`, meas: `measurement ${job.measPath}` },
     }),
-  );
+  ).finally(() => {
+    // a run's own engine: its workers end (and let go of the images) while the files are written
+    if (own !== engine) own.dispose().catch(() => {});
+  });
+  const facts = ({ field: _pixels, ...rest }: LoadedImage): ImageFacts => rest;
+  return { disp, refImg: facts(refImg), measImg: facts(measImg), hashes };
+}
+
+/**
+ * Process one pair into `outDir` (existing and empty). Returns the summary written to result.json.
+ * `engine`: the displacement engine to reuse (e.g. one per batch worker); default: one for this call.
+ */
+export async function processPair(job: PairJob, outDir: string, onStage: StageCallback = () => {}, engine?: DisplacementEngine): Promise<Record<string, unknown>> {
+  const o = job.options;
+  const formats: FieldSetFormat[] = parseFormats(o.formats ?? DEFAULT_FORMATS);
+  const timings: Record<string, number> = {};
+  const t = async <T>(stage: string, fn: () => Promise<T> | T): Promise<T> => {
+    const t0 = performance.now();
+    try {
+      return await fn();
+    } finally {
+      timings[stage] = +((performance.now() - t0) / 1000).toFixed(4);
+    }
+  };
+
+  // density work: the reconstruction modules load while the images decode (the thread mostly waits)
+  const reconstruction = o.setup ? import('@rhofield/core/reconstruct') : null;
+  reconstruction?.catch(() => {}); // awaited below; a failed measurement must not leave an unhandled rejection
+  const { disp, refImg, measImg, hashes } = await measureFiles(job, o, t, onStage, engine);
   const inputWarnings = await checkMeasuredPair(disp, { refPath: job.refPath, measPath: job.measPath, maskPath: o.maskPath, setupPath: o.setupPath }, { acceptMismatch: o.acceptMismatch, setup: o.setup, width: refImg.width, height: refImg.height });
 
   const setup = o.setup ?? null;
