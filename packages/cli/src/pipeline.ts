@@ -20,6 +20,7 @@ import {
   writeFieldSet,
   type DisplacementEngine,
   type DisplacementResult,
+  type FieldSet,
   type FieldSetFormat,
   type LoadedImage,
 } from '@rhofield/core/pair';
@@ -178,32 +179,24 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
   // Every file at once: the figures of both sets render on the thread pool while the CSV texts are
   // built here (measured on 2048² density runs: 1.56 s instead of 1.60 s with the sets one after the
   // other, for about 18 MB more peak memory). Both sets settle before an error is thrown, so that no
-  // write is still running when the caller removes the unfinished results. (The two timings overlap.)
-  onStage('writing displacement files', 0.85);
-  const writes = [
-    t('write_displacement', async () => {
-      const set = displacementFieldSet(disp, { ...(xM ? { xM } : {}), ...(yM ? { yM } : {}), settings });
-      await Promise.all([
-        writeFieldSet(outDir, 'displacement', set, formats, { figure: { vectors: 'displacement', ...o.figure } }),
-        formats.includes('npy') ? fsp.writeFile(path.join(outDir, 'displacement.npy'), fieldToNpy([disp.dxPx, disp.dyPx])) : null,
-      ]);
-    }),
-  ];
-  if (density) {
-    const d = density;
-    onStage('writing density files', 0.9);
-    writes.push(
-      t('write_density', async () => {
-        const set = densityFieldSet(d, { xPx: disp.grid.xPx, yPx: disp.grid.yPx }, { settings });
-        await Promise.all([
-          writeFieldSet(outDir, 'density', set, formats, { figure: { vectors: 'deflection', ...o.figure } }),
-          formats.includes('npy') ? fsp.writeFile(path.join(outDir, 'density.npy'), fieldToNpy(d.rho)) : null,
-        ]);
-      }),
-    );
-  }
-  const failed = (await Promise.allSettled(writes)).find((r): r is PromiseRejectedResult => r.status === 'rejected');
-  if (failed) throw failed.reason;
+  // write is still running when the caller removes the unfinished results. Timed as one stage,
+  // `write_displacement`, or `write` when the density files are written too.
+  const writeSet = (name: 'displacement' | 'density', set: FieldSet, vectors: string, npy: () => Uint8Array): Promise<unknown> =>
+    Promise.all([
+      writeFieldSet(outDir, name, set, formats, { figure: { vectors, ...o.figure } }),
+      formats.includes('npy') ? fsp.writeFile(path.join(outDir, `${name}.npy`), npy()) : null,
+    ]);
+  await t(density ? 'write' : 'write_displacement', async () => {
+    onStage('writing displacement files', 0.85);
+    const writes = [writeSet('displacement', displacementFieldSet(disp, { ...(xM ? { xM } : {}), ...(yM ? { yM } : {}), settings }), 'displacement', () => fieldToNpy([disp.dxPx, disp.dyPx]))];
+    if (density) {
+      const d = density;
+      onStage('writing density files', 0.9);
+      writes.push(writeSet('density', densityFieldSet(d, { xPx: disp.grid.xPx, yPx: disp.grid.yPx }, { settings }), 'deflection', () => fieldToNpy(d.rho)));
+    }
+    const failed = (await Promise.allSettled(writes)).find((r): r is PromiseRejectedResult => r.status === 'rejected');
+    if (failed) throw failed.reason;
+  });
 
   const [refHash, measHash, maskHash, setupHash] = await hashes;
   let maxMagnitude = -Infinity; // a loop, not Math.max(...): large grids overflow the argument list

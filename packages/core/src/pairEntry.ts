@@ -31,6 +31,7 @@ export type { KernelStatus } from './correlate/simdKernels.js';
 export { kernelStatus } from './correlate/simdKernels.js';
 export type { PixelMapping } from './optics/pixelMapping.js';
 export { pixelMapping } from './optics/pixelMapping.js';
+export type { FieldSet } from './io/fieldSet.js';
 export type { FieldSetFormat } from './io/writeFieldSet.js';
 export { parseFormats, writeFieldSet } from './io/writeFieldSet.js';
 export { fieldToNpy } from './io/writeNpy.js';
