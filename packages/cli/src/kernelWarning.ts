@@ -1,5 +1,5 @@
 /** The one-line warning when the displacement engine would run on its slower TypeScript kernels. */
-import { kernelStatus, type KernelStatus } from '@rhofield/core';
+import { kernelStatus, type KernelStatus } from '@rhofield/core/pair';
 import type { Log } from './common.js';
 
 let warned = false;

@@ -5,7 +5,7 @@
  * of this machine's memory (os.totalmem()).
  */
 import os from 'node:os';
-import { formatBytes, inputError, loadImageInfo, parseByteSize, WORKER_THREAD_BYTES, type MemoryEstimate } from '@rhofield/core';
+import { formatBytes, inputError, loadImageInfo, parseByteSize, WORKER_THREAD_BYTES, type MemoryEstimate } from '@rhofield/core/pair';
 
 /** Share of the machine's memory used as the default budget. */
 export const DEFAULT_MEMORY_SHARE = 0.5;

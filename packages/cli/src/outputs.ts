@@ -559,8 +559,8 @@ export class OutputDir implements Cleanable {
         throw new RhofieldError('usage', `${this.label} ${this.shown} received rhofield results from another process meanwhile; rerun with --force or choose another folder`);
       }
       for (const n of names) this.checkName(n, owned);
-      const fresh: ManifestEntry[] = [];
-      for (const n of names) fresh.push(await entryOf(this.staging, n));
+      // hashed side by side on the thread pool (in name order all the same)
+      const fresh: ManifestEntry[] = await Promise.all(names.map((n) => entryOf(this.staging, n)));
       const newSet = new Set(names);
       const keep = this.mode === 'add' ? Array.from(owned.values()).filter((e) => !newSet.has(e.name)) : [];
       const remove = this.mode === 'replace' ? Array.from(owned.keys()).filter((n) => !newSet.has(n)) : [];

@@ -3,7 +3,7 @@
  * the single-pair commands. Both share the displacement options; density adds the setup.
  */
 import type { Command } from 'commander';
-import { capThreads, describeSchedule, estimateMemory, formatBytes, invalidParameter, loadSetup, RhofieldError } from '@rhofield/core';
+import { capThreads, describeSchedule, estimateMemory, formatBytes, invalidParameter, RhofieldError } from '@rhofield/core/pair';
 import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, requireFile, StageProgress, type GlobalOpts } from '../common.js';
 import { DEFAULT_FORMATS, processPair, type PairOptions } from '../pipeline.js';
 import { checkMemory, imageHeaders, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
@@ -111,6 +111,8 @@ async function runPair(kind: 'displacement' | 'density', ref: string, meas: stri
   if (kind === 'density') {
     if (!o.setup) throw invalidParameter('--setup', 'a setup file (JSON, see README)', undefined);
     requireFile('setup file', o.setup);
+    // the setup parser (and its schema library) loads only for density
+    const { loadSetup } = await import('@rhofield/core/setup');
     options.setup = loadSetup(o.setup);
     options.setupPath = o.setup;
   }

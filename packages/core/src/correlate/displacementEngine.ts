@@ -32,6 +32,8 @@ interface Buffers {
   width: number;
   height: number;
   shared: boolean;
+  /** Copies of the input images (allocated on first use: images already in shared memory need none). */
+  inputs: Float32Array[] | null;
   bufs: Float32Array[];
   bins: Float32Array[];
   mask: Uint8Array;
@@ -93,6 +95,7 @@ export class DisplacementEngine {
   private readonly resources: MeasureResources = {
     workspace: this.workspace,
     buffers: (width, height, shared) => this.buffers(width, height, shared),
+    inputs: (width, height, shared) => this.inputs(width, height, shared),
     pool: (size) => this.pool(size),
   };
 
@@ -107,11 +110,19 @@ export class DisplacementEngine {
       width,
       height,
       shared,
-      bufs: [make(), make(), make(), make(), make(), make()],
+      inputs: null,
+      bufs: [make(), make(), make(), make()],
       bins: [make(nb), make(nb)],
       mask: shared ? new Uint8Array(new SharedArrayBuffer(n)) : new Uint8Array(n),
     };
     return this.cache;
+  }
+
+  private inputs(width: number, height: number, shared: boolean): Float32Array[] {
+    const c = this.buffers(width, height, shared);
+    const n = width * height;
+    c.inputs ??= shared ? [new Float32Array(new SharedArrayBuffer(4 * n)), new Float32Array(new SharedArrayBuffer(4 * n))] : [new Float32Array(n), new Float32Array(n)];
+    return c.inputs;
   }
 
   private async pool(size: number): Promise<EnginePool> {

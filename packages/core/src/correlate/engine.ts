@@ -10,7 +10,7 @@ import { lanczos4Row, sampleLanczos4 } from './lanczos.js';
 import { createSimdKernels, type SimdKernels } from './simdKernels.js';
 import { DirectWindowCorrelator } from './directCorrelator.js';
 import { FftWindowCorrelator, type CorrelationOutputs } from './fftCorrelator.js';
-import { axisTaps, type GridAxis } from './predictor.js';
+import { axisTaps, predictorRows, type GridAxis } from './predictor.js';
 
 /** Images of one measurement. */
 export interface EngineImages {
@@ -75,10 +75,34 @@ export interface CorrelateTask {
   out: CorrelationOutputs;
 }
 
-export type EngineTask = PrefilterTask | DeformTask | CorrelateTask | BinTask;
+/**
+ * Grey-value statistics of both input images for the texture check, per chunk of rows: chunk k
+ * writes `out[3k]` = Σ(v − s), `out[3k + 1]` = Σ(v − s)² with s the image's first pixel (shifted
+ * sums keep the precision of a two-pass variance for images far from zero), and `out[3k + 2]` = index
+ * of the chunk's first non-finite pixel, or −1. Chunks of the reference come first.
+ */
+export interface StatsTask {
+  op: 'stats';
+  out: Float64Array;
+}
+
+/** The predictor of a deformation pass interpolated along x (see predictorRows), per chunk of grid rows. */
+export interface PredictorRowsTask {
+  op: 'predictorRows';
+  /** Previous pass's field (cols × rows of the grid `ax` × `rows`), px. */
+  gx: Float32Array;
+  gy: Float32Array;
+  ax: GridAxis;
+  rows: number;
+  /** Outputs, rows × image width. */
+  predX: Float32Array;
+  predY: Float32Array;
+}
+
+export type EngineTask = PrefilterTask | DeformTask | CorrelateTask | BinTask | StatsTask | PredictorRowsTask;
 
 /** Rows (or columns, or grid rows) per chunk of each stage. */
-export const CHUNK = { prefilterRows: 64, prefilterCols: 64, deform: 32, correlate: 1, bin: 64 } as const;
+export const CHUNK = { prefilterRows: 64, prefilterCols: 64, deform: 32, correlate: 1, bin: 64, stats: 64, predictorRows: 8 } as const;
 
 /** Number of chunks of a task. */
 export function chunkCount(img: EngineImages, task: EngineTask): number {
@@ -93,6 +117,10 @@ export function chunkCount(img: EngineImages, task: EngineTask): number {
       return Math.ceil(task.rows / CHUNK.correlate);
     case 'bin':
       return 2 * Math.ceil((img.height >> 1) / CHUNK.bin);
+    case 'stats':
+      return 2 * Math.ceil(img.height / CHUNK.stats);
+    case 'predictorRows':
+      return Math.ceil(task.rows / CHUNK.predictorRows);
   }
 }
 
@@ -191,7 +219,53 @@ export function runChunk(img: EngineImages, task: EngineTask, k: number, ws: Eng
       correlateRows(img, task, r0, r1, ws);
       return;
     }
+    case 'predictorRows': {
+      const r0 = k * CHUNK.predictorRows;
+      predictorRows(task.gx, task.gy, task.ax, task.rows, width, task.predX, task.predY, r0, Math.min(task.rows, r0 + CHUNK.predictorRows));
+      return;
+    }
+    case 'stats': {
+      const per = Math.ceil(height / CHUNK.stats);
+      const second = k >= per;
+      const y0 = (second ? k - per : k) * CHUNK.stats;
+      shiftedSums(second ? img.meas : img.ref, y0 * width, Math.min(height, y0 + CHUNK.stats) * width, task.out, 3 * k);
+      return;
+    }
   }
+}
+
+/** Σ(v − d[0]) and Σ(v − d[0])² over d[i0..i1) into out[o], out[o + 1]; first non-finite index (or −1) into out[o + 2]. */
+function shiftedSums(d: Float32Array, i0: number, i1: number, out: Float64Array, o: number): void {
+  const s = d[0]!;
+  // four partial sums: independent additions run side by side
+  let a0 = 0;
+  let a1 = 0;
+  let q0 = 0;
+  let q1 = 0;
+  let i = i0;
+  for (; i + 1 < i1; i += 2) {
+    const a = d[i]! - s;
+    const b = d[i + 1]! - s;
+    // v − v is 0 for a finite value, NaN for ±Infinity and NaN
+    if (a - a + (b - b) !== 0) break;
+    a0 += a;
+    a1 += b;
+    q0 += a * a;
+    q1 += b * b;
+  }
+  let bad = -1;
+  for (; i < i1; i++) {
+    const a = d[i]! - s;
+    if (a - a !== 0) {
+      bad = i;
+      break;
+    }
+    a0 += a;
+    q0 += a * a;
+  }
+  out[o] = a0 + a1;
+  out[o + 1] = q0 + q1;
+  out[o + 2] = bad;
 }
 
 /**

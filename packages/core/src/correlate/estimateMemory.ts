@@ -20,14 +20,22 @@
  * Calibration (Node 20, Linux, `rhofield displacement`, peak RSS from getrusage): 2048² 16-bit pair
  * 291 MB with 1 thread, 386 MB with 2; 3072²: 414 / 544 MB; 640×480 at step 1 (290k vectors): 328 MB;
  * 1024² at step 2 (255k vectors): 352 MB; `rhofield density` 640×480 at step 1: 597 MB. The estimate
- * lies within 15 % of these (tests/correlate/estimateMemory.test.ts checks a factor 1.5).
+ * lies within 15 % of these (tests/correlate/estimateMemory.test.ts checks a factor 1.5). Since the
+ * single-pair commands load fewer modules, read the images into shared memory and free them before
+ * writing, their peaks are lower (2048²: 189–226 MiB with 1 thread, 202–219 MiB with 2): the process
+ * constant is recalibrated on those; with 2 threads the estimate now errs high (no image copies).
  */
 import { invalidParameter } from '../util/errors.js';
 import { availableCores } from './capThreads.js';
 import { buildSchedule } from './schedule.js';
 
-/** Resident memory of the CLI process before the pair (runtime, sharp, modules), measured: 190–200 MiB. */
-export const CLI_PROCESS_BYTES = 200 * 2 ** 20;
+/**
+ * Resident memory of the CLI process beyond the pair's own arrays (runtime, sharp and its threads, modules,
+ * figure rendering), calibrated on the peak RSS of `rhofield displacement`: 148 MB for a 256² pair at
+ * step 2, 189–226 MiB for a 2048² pair with 1 thread (the single-pair commands load only the modules they
+ * need and free the images before writing); taken as 160 MiB.
+ */
+export const CLI_PROCESS_BYTES = 160 * 2 ** 20;
 /** Runtime of one displacement worker thread (isolate, loader, modules), measured: 38–40 MB. */
 export const WORKER_THREAD_BYTES = 40 * 2 ** 20;
 /**

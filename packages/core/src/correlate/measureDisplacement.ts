@@ -9,7 +9,7 @@ import { availableCores, capThreads } from './capThreads.js';
 import { releaseDefaultBuffers, withDefaultEngine, type DisplacementEngine } from './displacementEngine.js';
 import { CHUNK, chunkCount, runChunk, type CorrelateTask, type EngineImages, type EngineTask, type EngineWorkspace } from './engine.js';
 import { fillHoles, normalizedMedianTest, replaceByNeighbourMedian } from './normalizedMedianTest.js';
-import { predictorAt, predictorRows, type GridAxis } from './predictor.js';
+import { predictorAt, type GridAxis } from './predictor.js';
 import { buildSchedule, type PassPlan } from './schedule.js';
 import { VectorStatus, type DisplacementField, type VectorGrid } from './types.js';
 import { windowGrid } from './windowGrid.js';
@@ -93,6 +93,12 @@ export interface MeasureDisplacementOptions {
    * highest other local maximum anywhere). The first pass always uses the FFT plane.
    */
   refine?: 'direct' | 'fft';
+  /**
+   * How error messages name the two images (default `reference image` and `measurement image`); a
+   * caller that loaded them from files passes e.g. `reference flat.png`, so that the textureless or
+   * non-finite image is named as the user knows it without a check of the caller's own.
+   */
+  imageNames?: { ref?: string; meas?: string };
 }
 
 /** Per-pass report. */
@@ -148,53 +154,34 @@ function checkField(name: string, f: unknown): Field {
   return g;
 }
 
-function texture(name: string, f: Field): number {
-  const d = f.data;
-  const n = d.length;
-  // four partial sums: independent additions run side by side
-  let s0 = 0;
-  let s1 = 0;
-  let s2 = 0;
-  let s3 = 0;
-  let i = 0;
-  for (; i + 3 < n; i += 4) {
-    const a = d[i]!;
-    const b = d[i + 1]!;
-    const c = d[i + 2]!;
-    const e = d[i + 3]!;
-    // v − v is 0 for a finite value, NaN for ±Infinity and NaN
-    if (a - a + (b - b) + (c - c) + (e - e) !== 0) break;
-    s0 += a;
-    s1 += b;
-    s2 += c;
-    s3 += e;
+/**
+ * Refuse an image whose grey values do not vary (blank frame, lens cap) or that holds a non-finite
+ * value, from per-chunk sums computed by the engine's threads (one pass over both images, split over
+ * the threads, instead of two passes on the calling thread).
+ */
+async function checkTexture(img: EngineImages, stage: (task: EngineTask) => Promise<void>, shared: boolean, names: { ref: string; meas: string }): Promise<void> {
+  const per = Math.ceil(img.height / CHUNK.stats);
+  const out = sharedF64(3 * 2 * per, shared);
+  await stage({ op: 'stats', out });
+  const n = img.width * img.height;
+  for (let im = 0; im < 2; im++) {
+    const name = im === 0 ? names.ref : names.meas;
+    const d = im === 0 ? img.ref : img.meas;
+    let sum = 0;
+    let sq = 0;
+    for (let c = im * per; c < (im + 1) * per; c++) {
+      const bad = out[3 * c + 2]!;
+      if (bad >= 0) {
+        const v = d[bad]!;
+        throw inputError(`${name} has a non-finite value (${v}) at pixel (${bad % img.width}, ${Math.floor(bad / img.width)}); images must be finite counts`);
+      }
+      sum += out[3 * c]!;
+      sq += out[3 * c + 1]!;
+    }
+    const mean = sum / n;
+    const sd = Math.sqrt(Math.max(0, sq / n - mean * mean));
+    if (!(sd > 1e-6 * Math.max(1, Math.abs(d[0]!)))) throw inputError(`${name} has no texture (standard deviation ${sd.toPrecision(3)}); check the file/exposure`);
   }
-  for (; i < n; i++) {
-    const v = d[i]!;
-    if (v - v !== 0) throw inputError(`${name} image has a non-finite value (${v}) at pixel (${i % f.width}, ${Math.floor(i / f.width)}); images must be finite counts`);
-    s0 += v;
-  }
-  const m = (s0 + s1 + s2 + s3) / n;
-  let v0 = 0;
-  let v1 = 0;
-  let v2 = 0;
-  let v3 = 0;
-  i = 0;
-  for (; i + 3 < n; i += 4) {
-    const a = d[i]! - m;
-    const b = d[i + 1]! - m;
-    const c = d[i + 2]! - m;
-    const e = d[i + 3]! - m;
-    v0 += a * a;
-    v1 += b * b;
-    v2 += c * c;
-    v3 += e * e;
-  }
-  for (; i < n; i++) {
-    const a = d[i]! - m;
-    v0 += a * a;
-  }
-  return Math.sqrt((v0 + v1 + v2 + v3) / n);
 }
 
 /** Validated options with defaults. */
@@ -212,6 +199,7 @@ interface Resolved {
   refine: 'direct' | 'fft';
   region: readonly [number, number, number, number] | undefined;
   warnings: string[];
+  imageNames: { ref: string; meas: string };
 }
 
 function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions, defaultThreads: number | undefined): Resolved {
@@ -249,12 +237,10 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions, default
     const ok = Array.isArray(region) && region.length === 4 && region.every((v) => typeof v === 'number' && Number.isFinite(v)) && region[0] <= region[2] && region[1] <= region[3];
     if (!ok) throw invalidParameter('flowFreeRegionPx', '[x0, y0, x1, y1] in image pixels with x0 ≤ x1 and y0 ≤ y1', region);
   }
-  const sdRef = texture('reference', ref);
-  if (!(sdRef > 1e-6 * Math.max(1, Math.abs(ref.data[0]!))))
-    throw inputError(`reference image has no texture (standard deviation ${sdRef.toPrecision(3)}); check the file/exposure`);
-  const sdMeas = texture('measurement', meas);
-  if (!(sdMeas > 1e-6 * Math.max(1, Math.abs(meas.data[0]!))))
-    throw inputError(`measurement image has no texture (standard deviation ${sdMeas.toPrecision(3)}); check the file/exposure`);
+  const names = o.imageNames ?? {};
+  if (names === null || typeof names !== 'object' || (names.ref !== undefined && typeof names.ref !== 'string') || (names.meas !== undefined && typeof names.meas !== 'string'))
+    throw invalidParameter('imageNames', '{ ref?: string, meas?: string }', o.imageNames);
+  const imageNames = { ref: names.ref ?? 'reference image', meas: names.meas ?? 'measurement image' };
   const keepPeakRatio = o.medianKeepPeakRatio ?? 3;
   if (typeof keepPeakRatio !== 'number' || !(keepPeakRatio >= 1))
     throw invalidParameter('medianKeepPeakRatio', 'a number ≥ 1 (or Infinity to replace every flagged vector)', o.medianKeepPeakRatio);
@@ -266,15 +252,17 @@ function resolve(ref: Field, meas: Field, o: MeasureDisplacementOptions, default
     throw invalidParameter('interpolation', "'lanczos4' or 'bspline3'", o.interpolation);
   const refine = o.refine ?? 'direct';
   if (refine !== 'direct' && refine !== 'fft') throw invalidParameter('refine', "'direct' or 'fft'", o.refine);
-  return { windowPx, stepPx, passes, medianThreshold, medianEpsilonPx, threads, mask, keepPeakRatio, keepCorrelation, interpolation, refine, region, warnings };
+  return { windowPx, stepPx, passes, medianThreshold, medianEpsilonPx, threads, mask, keepPeakRatio, keepCorrelation, interpolation, refine, region, warnings, imageNames };
 }
 
 /** What a measurement works with: its engine's buffers, workspace and workers (see DisplacementEngine). */
 export interface MeasureResources {
   /** The calling thread's scratch. */
   workspace: EngineWorkspace;
-  /** Six full-size image buffers, two 2×2-binned ones and a mask buffer (SharedArrayBuffers if `shared`). */
+  /** Four full-size work buffers, two 2×2-binned ones and a mask buffer (SharedArrayBuffers if `shared`). */
   buffers(width: number, height: number, shared: boolean): { bufs: Float32Array[]; bins: Float32Array[]; mask: Uint8Array };
+  /** Two full-size buffers for copies of the input images (SharedArrayBuffers if `shared`). */
+  inputs(width: number, height: number, shared: boolean): Float32Array[];
   /** A pool of `size` worker threads. */
   pool(size: number): Promise<EnginePool>;
 }
@@ -289,6 +277,10 @@ export function releaseDisplacementBuffers(): void {
 
 function sharedF32(n: number, shared: boolean): Float32Array {
   return shared ? new Float32Array(new SharedArrayBuffer(4 * n)) : new Float32Array(n);
+}
+
+function sharedF64(n: number, shared: boolean): Float64Array {
+  return shared ? new Float64Array(new SharedArrayBuffer(8 * n)) : new Float64Array(n);
 }
 
 /**
@@ -373,13 +365,21 @@ export async function runMeasurement(ref: Field, meas: Field, options: MeasureDi
 
   // images
   const { bufs, bins, mask: maskBuf } = res.buffers(width, height, shared);
+  // the workers read the images in place when they already live in shared memory (e.g. loaded with
+  // loadImage's `shared` option), else from copies in the engine's shared buffers
+  const inShared = (d: Float32Array): boolean => !shared || d.buffer instanceof SharedArrayBuffer;
   let refData = ref.data;
   let measData = meas.data;
-  if (shared) {
-    bufs[0]!.set(ref.data);
-    bufs[1]!.set(meas.data);
-    refData = bufs[0]!;
-    measData = bufs[1]!;
+  if (!inShared(refData) || !inShared(measData)) {
+    const inputs = res.inputs(width, height, shared);
+    if (!inShared(refData)) {
+      inputs[0]!.set(ref.data);
+      refData = inputs[0]!;
+    }
+    if (!inShared(measData)) {
+      inputs[1]!.set(meas.data);
+      measData = inputs[1]!;
+    }
   }
   if (o.mask) maskBuf.set(o.mask.data);
   const img: EngineImages = {
@@ -387,10 +387,10 @@ export async function runMeasurement(ref: Field, meas: Field, options: MeasureDi
     height,
     ref: refData,
     meas: measData,
-    coefRef: bufs[2]!,
-    coefMeas: bufs[3]!,
-    defRef: bufs[4]!,
-    defMeas: bufs[5]!,
+    coefRef: bufs[0]!,
+    coefMeas: bufs[1]!,
+    defRef: bufs[2]!,
+    defMeas: bufs[3]!,
     mask: o.mask ? maskBuf : null,
     binRef: bins[0]!,
     binMeas: bins[1]!,
@@ -402,6 +402,7 @@ export async function runMeasurement(ref: Field, meas: Field, options: MeasureDi
     const n = chunkCount(img, task);
     for (let k = 0; k < n; k++) runChunk(img, task, k, ws);
   };
+  await checkTexture(img, stage, shared, o.imageNames);
   const sat = o.mask ? summedArea(o.mask) : null;
   const t1 = performance.now();
 
@@ -435,7 +436,7 @@ export async function runMeasurement(ref: Field, meas: Field, options: MeasureDi
       pAy = { origin: pg.yPx[0]!, step: pg.rows > 1 ? pg.yPx[1]! - pg.yPx[0]! : 1, count: pg.rows };
       const predX = sharedF32(pg.rows * width, shared);
       const predY = sharedF32(pg.rows * width, shared);
-      predictorRows(prev.dx, prev.dy, pAx, pg.rows, width, predX, predY);
+      await stage({ op: 'predictorRows', gx: prev.dx, gy: prev.dy, ax: pAx, rows: pg.rows, predX, predY });
       await stage({ op: 'deform', interpolation: pi === schedule.length - 1 ? o.interpolation : 'keys', predX, predY, ay: pAy });
       source = 'deformed';
     } else if (o.mask) {
@@ -520,8 +521,11 @@ export async function runMeasurement(ref: Field, meas: Field, options: MeasureDi
     reports.push({ ...plan, cols: grid.cols, rows: grid.rows, outliers, ms: { deform: tb - ta, correlate: tc - tb, validate: td - tc } });
     last = { grid, out, active, flagged };
     if (pi < schedule.length - 1) {
-      const px = out.dx.slice();
-      const py = out.dy.slice();
+      // in shared memory: the workers interpolate it for the next pass
+      const px = sharedF32(n, shared);
+      const py = sharedF32(n, shared);
+      px.set(out.dx);
+      py.set(out.dy);
       fillHoles(px, py, grid.cols, grid.rows);
       prev = { grid, dx: px, dy: py };
     }

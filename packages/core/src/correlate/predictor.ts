@@ -53,6 +53,7 @@ export function axisTaps(axis: GridAxis, p: number, idx: Int32Array, w: Float64A
 /**
  * First (x) half of the separable interpolation: every grid row interpolated to every image column.
  * @param gx, gy grid components (cols × rows); @param out{X,Y} rows × width.
+ * @param r0, r1 the grid rows to do (default all), so that threads can share the work.
  */
 export function predictorRows(
   gx: Float32Array,
@@ -62,13 +63,15 @@ export function predictorRows(
   width: number,
   outX: Float32Array,
   outY: Float32Array,
+  r0 = 0,
+  r1 = rows,
 ): void {
   const idx = new Int32Array(4 * width);
   const w = new Float64Array(4 * width);
   const tmp = new Float64Array(4);
   for (let x = 0; x < width; x++) axisTaps(ax, x, idx, w, x, tmp);
   const cols = ax.count;
-  for (let r = 0; r < rows; r++) {
+  for (let r = r0; r < r1; r++) {
     const o = r * cols;
     const p = r * width;
     for (let x = 0; x < width; x++) {
