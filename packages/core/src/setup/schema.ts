@@ -1,5 +1,5 @@
 /**
- * The setup file schema (DESIGN §3a): one JSON document read by every command. SI units throughout
+ * The setup file schema: one JSON document read by every command. SI units throughout
  * (metres, kg/m³, Pa, K; wavelength in metres). Objects are strict: unknown keys are errors.
  *
  * Each schema carries its "expected …" phrase as the zod error message; {@link parseSetup} turns the
