@@ -61,7 +61,7 @@ const cases: [string, unknown, RegExp, string[]?][] = [
   ['a reference edge that is entirely masked', demo, /reference|top/, ['--mask', topMasked]],
 ];
 
-describe('rhofield density: bad setups (DESIGN §3a)', () => {
+describe('rhofield density: bad setups (docs/setup.md)', () => {
   for (const [what, setup, re, extra] of cases) {
     it(`${what}: one line naming it, exit 2, nothing written`, async () => {
       const r = await density(setup, extra ?? []);

@@ -116,7 +116,7 @@ describe('rhofield displacement REF MEAS --out DIR', () => {
 });
 
 describe('rhofield density REF MEAS --setup FILE --out DIR', () => {
-  it('runs on the bundled demo pair: a hot (less dense) region below the reference density (DESIGN §1 sign)', async () => {
+  it('runs on the bundled demo pair: a hot (less dense) region below the reference density (physical sign: rays bend toward higher index)', async () => {
     const out = path.join(dir, 'demo');
     const r = await cli(['density', 'fixtures/demo/reference.png', 'fixtures/demo/measurement.png', '--setup', 'fixtures/demo/setup.json', '--out', out, '--threads', '1']);
     expect(r.code, r.err).toBe(0);

@@ -1,6 +1,6 @@
 /**
  * The progress bar of the single-pair commands appears only on a terminal (a pseudo-terminal from
- * util-linux `script` here) and never under CI or in pipes (DESIGN §3).
+ * util-linux `script` here) and never under CI or in pipes.
  */
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, rmSync } from 'node:fs';

@@ -40,7 +40,7 @@ describe('planar Gaussian hot spot (Δρ = −0.1 kg/m³, σ = 3 windows = 48 px
     expect(Math.abs(c.centreRatio - 1)).toBeLessThan(0.03);
   });
 
-  // Sign is physical, end to end, with hand-written expectations (DESIGN §1): a hot spot has its lowest
+  // Sign is physical, end to end, with hand-written expectations (rays bend toward higher index): a hot spot has its lowest
   // refractive index at the centre and acts as a diverging lens; rays bend toward higher n, i.e. away
   // from the centre, so the camera sees, through the flow, background points lying further out — each
   // dot appears drawn TOWARD the centre (as a mirage shows the sky below a hot road). Image frame:

@@ -17,7 +17,8 @@ import {
 const rel = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
 
 describe('air refractivity (standard air, 15 °C, 101 325 Pa, dry)', () => {
-  // Check values: REFERENCES.md table "(n−1)·10⁸", computed from the published formulas; the test
+  // Check values: (n−1)·10⁸ computed from the published formulas (Ciddor 1996, Appl. Opt. 35:1566;
+  // modified Edlén: Birch & Downs 1993/94, Metrologia 30:155, 31:315; Edlén 1966, Metrologia 2:71); the test
   // also recomputes each formula independently (σ in µm⁻¹).
   const cases = [
     { nm: 632.99, ciddor: 27653.0, edlenMod: 27652.9, edlen66: 27651.8 },
@@ -42,7 +43,7 @@ describe('air refractivity (standard air, 15 °C, 101 325 Pa, dry)', () => {
       expect(Math.abs(airRefractivityEdlen1966Standard(c.nm * 1e-9) * 1e8 - c.edlen66)).toBeLessThan(0.06);
     });
   }
-  it('Ciddor and modified Edlén agree within 3e-9 in n over 450–633 nm (REFERENCES.md: about 1e-9 near 600 nm, 2e-9 at 450 nm in its table)', () => {
+  it('Ciddor and modified Edlén agree within 3e-9 in n over 450–633 nm (the formulas differ by about 1e-9 near 600 nm and 2e-9 at 450 nm; computed from the papers above)', () => {
     for (const nm of [450, 532, 589.3, 632.99]) {
       expect(Math.abs(airRefractivityCiddorStandard(nm * 1e-9) - airRefractivityBirchDowns(nm * 1e-9))).toBeLessThan(3e-9);
     }
@@ -53,7 +54,7 @@ describe('air refractivity (standard air, 15 °C, 101 325 Pa, dry)', () => {
 });
 
 describe('Gladstone–Dale constants', () => {
-  it('air K(λ) within 0.05 % of REFERENCES.md (Ciddor 1996 refractivity / standard-air density 1.22546 kg/m³)', () => {
+  it('air K(λ) within 0.05 % of Ciddor 1996 refractivity / standard-air density 1.22546 kg/m³ (computed)', () => {
     for (const [nm, k] of [[632.99, 2.2565e-4], [589.3, 2.2616e-4], [532, 2.2702e-4], [450, 2.2892e-4]] as const) {
       expect(rel(airGladstoneDale(nm * 1e-9), k)).toBeLessThan(5e-4);
     }
@@ -63,7 +64,7 @@ describe('Gladstone–Dale constants', () => {
     expect(rel(gasGladstoneDale('O2', 589e-9), 0.19e-3)).toBeLessThan(0.01);
     expect(rel(gasGladstoneDale('NO', 589e-9), 0.221e-3)).toBeLessThan(0.01);
   });
-  it('table values within 1 % of the handbook list (REFERENCES.md: Chronological Scientific Tables 2000 refractivities / ideal-gas density)', () => {
+  it('table values within 1 % of the handbook list (Chronological Scientific Tables 2000 refractivities / ideal-gas density)', () => {
     const list: Record<string, number> = { N2: 0.238, O2: 0.19, Ar: 0.159, CO2: 0.229, CO: 0.267, He: 0.196, H2: 1.53, Ne: 0.074, H2O: 0.313 };
     for (const [g, k] of Object.entries(list)) expect(rel(gasGladstoneDale(g, 589e-9), k * 1e-3)).toBeLessThan(0.01);
   });
@@ -92,7 +93,7 @@ describe('ideal gas', () => {
   });
 });
 
-describe('geometry (thin lens focused on the background; DESIGN §1, Raffel 2015 Exp. Fluids 56:60)', () => {
+describe('geometry (thin lens focused on the background; Raffel 2015 Exp. Fluids 56:60)', () => {
   const g = { focalLength: 0.1, pixelPitch: 5e-6, lensToBackground: 2.1, flowToBackground: 1.05 };
   it('magnification f/(Z_B − f) = 0.05 for f = 0.1 m, Z_B = 2.1 m (hand-worked)', () => {
     expect(magnification(g)).toBeCloseTo(0.05, 12);

@@ -3,11 +3,11 @@ import { planSetup, formatPlan, RhofieldError } from '@rhofield/core';
 import type { PlanSetupInput } from '@rhofield/core';
 
 /**
- * Hand-worked example (the setup of DESIGN §3a, air at 532 nm). Formulas: thin lens (M = f/(Z_B − f),
+ * Hand-worked example (a lab setup: f = 105 mm, air at 532 nm). Formulas: thin lens (M = f/(Z_B − f),
  * image distance v = f·Z_B/(Z_B − f)); BOS displacement d = M·Z_D·eps/p (Richard & Raffel 2001,
  * Meas. Sci. Technol. 12:1576); Gladstone–Dale n − 1 = K·ρ; K of air from Ciddor 1996 (Applied Optics
- * 35:1566) standard-air refractivity divided by standard-air density 1.22546 kg/m³ (REFERENCES.md gives
- * K(532 nm) = 2.2702e-4 m³/kg [computed]).
+ * 35:1566) standard-air refractivity divided by standard-air density 1.22546 kg/m³ (computed from
+ * those: K(532 nm) = 2.2702e-4 m³/kg).
  */
 const setup: PlanSetupInput = {
   camera: { focalLength: 0.105, fNumber: 11, pixelPitch: 6.5e-6, sensorPx: [2560, 2160] },
@@ -34,7 +34,7 @@ describe('planSetup(setup, { noisePx = 0.05 }) — hand-worked thin-lens example
     expect(rel(pl.fieldOfViewFlow[0], 0.227314)).toBeLessThan(1e-4);
   });
   it('displacement of the Gaussian disturbance', () => {
-    // K(532 nm) = 2.2702e-4 m³/kg (REFERENCES.md, computed from Ciddor 1996); n0 = 1 + K·1.18 = 1.000268
+    // K(532 nm) = 2.2702e-4 m³/kg (computed from Ciddor 1996); n0 = 1 + K·1.18 = 1.000268
     expect(rel(pl.gladstoneDale, 2.2702e-4)).toBeLessThan(2e-4);
     // |∇ρ|max = √2·|Δρ|·e^(−1/2)/L = 1.414214 × 0.05 × 0.606531 / 0.01 = 4.288819 kg/m⁴
     expect(rel(pl.maxDensityGradient, 4.288819)).toBeLessThan(1e-5);

@@ -6,7 +6,7 @@ import { createSimulationEngines, parseSetup, simulateSetup } from '@rhofield/co
  * displacement MEASURED by multi-pass correlation (measureDisplacement), density by reconstruction.
  *
  * Hand-worked planner prediction for this setup (thin lens; d = M·Z_D·eps/p, Richard & Raffel 2001,
- * Meas. Sci. Technol. 12:1576; K(532 nm) = 2.2702e-4 m³/kg from Ciddor 1996 via REFERENCES.md):
+ * Meas. Sci. Technol. 12:1576; K(532 nm) = 2.2702e-4 m³/kg computed from Ciddor 1996):
  *   M = f/(Z_B − f) = 0.05/1.45 = 0.0344828
  *   flow-plane pixel s = p·Z_A·(Z_B − f)/(f·Z_B) = 6.5e-6 × 1.0 × 1.45/(0.05 × 1.5) = 1.256667e-4 m
  *   L = 4.1 mm = 32.63 px, so the disturbance 2L = 65.3 px spans 4.08 windows of 16 px

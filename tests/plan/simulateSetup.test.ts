@@ -55,7 +55,7 @@ describe('simulateSetup(setup, engines, { field }) — chain plumbing with an or
     expect(e.peakDisplacementTruePx / e.peakDisplacementPlannedPx).toBeLessThanOrEqual(1.0001);
     expect(e.displacementRmsPx).toBeLessThan(0.02);
     expect(e.densityRmsRelative).toBeLessThan(0.05);
-    // a hot spot is less dense than the room (DESIGN §1 physical sign)
+    // a hot spot is less dense than the room (physical sign)
     let minRho = Infinity;
     for (const v of r.density.rho.data) if (Number.isFinite(v)) minRho = Math.min(minRho, v);
     expect(minRho).toBeLessThan(1.18 - 0.1);

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { abelDeflectionOperator, abelInvertDeflection } from '@rhofield/core';
 
-// Deflection-form Abel pair (REFERENCES.md, standard result): for n − n∞ = Δn·exp(−r²/σ²),
+// Deflection-form Abel pair (standard result, e.g. Kolhe & Agrawal 2009, Appl. Opt. 48:3894): for n − n∞ = Δn·exp(−r²/σ²),
 // ε(y) = −(2√π Δn/n∞)(y/σ)·exp(−y²/σ²).
 describe('abelInvertDeflection(eps, nInf, out) — Kolhe & Agrawal 2009 deflection form, two-point', () => {
   for (const sigma of [4, 8, 16]) {

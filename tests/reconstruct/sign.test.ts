@@ -2,7 +2,7 @@
  * The sign is physical — reconstruction side, without the scene generator: a displacement field typed
  * here by hand, with every dot drawn toward one point, must come out as a LESS dense (hot) spot there.
  *
- * Argument (DESIGN §1): rays bend toward higher refractive index. A hot, low-density spot has its lowest
+ * Argument: rays bend toward higher refractive index. A hot, low-density spot has its lowest
  * n at the centre, so it is a diverging lens: a ray passing right of the centre bends further right, and
  * the camera sees, there, background that lies further out — the dot pattern appears drawn toward the
  * centre (a mirage shows the sky below a hot road). Conversely, dots pushed away from a point mean a

@@ -25,7 +25,7 @@ const fails = (mut: (s: S) => void): string => {
 };
 
 describe('parseSetup(json, source)', () => {
-  it('accepts the DESIGN §3a example and the axisymmetric and mixture variants', () => {
+  it('accepts the docs/setup.md-style example and the axisymmetric and mixture variants', () => {
     expect(parseSetup(good()).medium.gas).toBe('air');
     const a = good();
     a.flow = { type: 'axisymmetric', axis: 'vertical', axisPosition: 'auto' };

@@ -2,7 +2,7 @@
  * Shared CLI plumbing: error → exit code mapping, messages on stderr, JSON on stdout, atomic output
  * folders, option parsing. Commands stay thin: parse, call the library, write files.
  *
- * Exit codes (DESIGN §3): 0 success (warnings allowed), 1 processing failed, 2 usage or input error,
+ * Exit codes (docs/conventions.md): 0 success (warnings allowed), 1 processing failed, 2 usage or input error,
  * 3 (`check` only) images unusable for measurement.
  */
 import { createHash } from 'node:crypto';

@@ -1,7 +1,7 @@
 /**
  * rhofield — background-oriented schlieren from photographs to density.
  *
- * Conventions (DESIGN §3): fields are {@link Field} (row-major, y down, pixel centres at integer
+ * Conventions (docs/conventions.md): fields are {@link Field} (row-major, y down, pixel centres at integer
  * coordinates); displacement is measured minus reference, +x right, +y down, in pixels; SI units
  * elsewhere; NaN where there is no data.
  * @packageDocumentation

@@ -329,7 +329,7 @@ export function register(program: Command): void {
     .option('--reference <file|pattern>', 'reference image for all frames, or a pattern/stack with one reference per frame')
     .option('--pairing <mode>', `single (one reference), per-frame, or consecutive (frame i vs i+1); default from --reference, consecutive without it`)
     .option('--range <first:last[:step]>', 'frames to use, inclusive: %d numbers, stack pages (from 0) or positions in the sorted wildcard matches (from 0)')
-    .option('--setup <file>', 'setup file (JSON, DESIGN §3a): also compute density; without it, displacement only')
+    .option('--setup <file>', 'setup file (JSON, see docs/setup.md): also compute density; without it, displacement only')
     .option('--window <px>', `final interrogation window side, px (power of two, 16–128; default ${DEFAULTS.windowPx})`)
     .option('--step <px>', 'grid spacing between window centres, px (default window/2)')
     .option('--passes <n>', `number of correlation passes, 1–12 (default ${DEFAULTS.passes}; schedule: rhofield displacement --help)`)

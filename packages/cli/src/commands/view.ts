@@ -3,7 +3,7 @@
  * result folder (made by `rhofield displacement` or `rhofield density` with npy output).
  * With a density result the views use the deflection angle (rad, from the optical setup); with a
  * displacement-only result they use the displacement (px) — note that the apparent displacement
- * points opposite to the deflection (DESIGN §1).
+ * points opposite to the deflection (docs/conventions.md).
  */
 import { existsSync, readFileSync } from 'node:fs';
 import path from 'node:path';

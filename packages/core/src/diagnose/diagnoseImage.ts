@@ -4,7 +4,7 @@
  *
  * Methods:
  * - dot image diameter: width of the mean autocorrelation peak, ÷√2 and corrected for pixel
- *   integration (DESIGN §3), see {@link dotDiameterFromAutocorrelation};
+ *   integration (docs/conventions.md), see {@link dotDiameterFromAutocorrelation};
  * - noise: white-noise variance = zero-lag excess of the autocorrelation over the dot model
  *   (noise is uncorrelated between pixels, the dots are not). It resolves noise down to about a
  *   tenth of the texture standard deviation (random scatter of one frame's autocorrelation shape, and

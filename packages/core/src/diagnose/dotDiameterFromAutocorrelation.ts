@@ -1,5 +1,5 @@
 /**
- * Dot image diameter from the width of the autocorrelation peak (DESIGN §3).
+ * Dot image diameter from the width of the autocorrelation peak (dot-diameter convention: docs/conventions.md).
  *
  * Model: dots with a Gaussian intensity profile of standard deviation σ (e⁻² diameter 4σ) at random,
  * uncorrelated positions, integrated over square pixels of unit fill factor. The autocorrelation of

@@ -3,7 +3,7 @@
  * the CLI can write any subset of formats from the same object.
  *
  * - `grid`: coordinates of the columns/rows in image pixels (window centres, y down) and, when
- *   known, in metres of the flow plane (`yM` as given; rhofield outputs use y upward, DESIGN §1).
+ *   known, in metres of the flow plane (`yM` as given; rhofield outputs use y upward, docs/conventions.md).
  * - `fields`: scalar fields on the grid (width = columns, height = rows), each with a name (an
  *   identifier, used as dataset/variable name), units (free text such as `px`, `rad`, `kg/m^3`,
  *   `K`, `1`) and a description. NaN = no data.

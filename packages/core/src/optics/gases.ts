@@ -2,7 +2,7 @@
  * Built-in gas table: Gladstone–Dale constant K (n − 1 = K·ρ) and molar mass per gas.
  *
  * K values (except air) are for 589 nm; they come from handbook refractivities at 0 °C, 101 325 Pa
- * divided by the ideal-gas density, as compiled in the project's REFERENCES.md (refractivities from
+ * divided by the ideal-gas density (refractivities from
  * the Chronological Scientific Tables, National Astronomical Observatory of Japan, 2000). K changes by
  * about 1–2 % across the visible; for air it is computed at the user's wavelength from Ciddor 1996.
  *
@@ -27,7 +27,7 @@ export interface GasProperties {
   readonly source: string;
 }
 
-const HANDBOOK = 'refractivity at 589 nm, 0 °C, 101 325 Pa (Chronological Scientific Tables 2000) / ideal-gas density, via REFERENCES.md';
+const HANDBOOK = 'refractivity at 589 nm, 0 °C, 101 325 Pa (Chronological Scientific Tables 2000) / ideal-gas density';
 
 const TABLE: readonly GasProperties[] = [
   { name: 'air', molarMass: 28.9644e-3, gladstoneDale589: NaN, source: 'computed at the wavelength: Ciddor 1996, Applied Optics 35:1566, standard-air refractivity / density' },
@@ -41,7 +41,7 @@ const TABLE: readonly GasProperties[] = [
   { name: 'Ne', molarMass: 20.1797e-3, gladstoneDale589: 0.074e-3, source: HANDBOOK },
   { name: 'H2O', molarMass: 18.01528e-3, gladstoneDale589: 0.313e-3, source: HANDBOOK + ' (vapour)' },
   { name: 'CH4', molarMass: 16.0425e-3, gladstoneDale589: 0.62e-3, source: 'approximate value recalled from handbook tables (from memory, not verified; about ±3 %)' },
-  { name: 'NO', molarMass: 30.0061e-3, gladstoneDale589: 0.221e-3, source: 'AIAA Paper 2003-4252 (via REFERENCES.md)' },
+  { name: 'NO', molarMass: 30.0061e-3, gladstoneDale589: 0.221e-3, source: 'AIAA Paper 2003-4252' },
 ];
 
 const BY_NAME = new Map(TABLE.map((g) => [g.name, g]));

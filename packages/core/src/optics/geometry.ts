@@ -1,5 +1,5 @@
 /**
- * Thin-lens BOS geometry (DESIGN §1). All lengths in metres.
+ * Thin-lens BOS geometry (docs/conventions.md). All lengths in metres.
  *
  * Sign and frame rules, stated once for the whole library:
  * - Displacement `d` (px) is measured image minus reference, +x right, +y down (image rows).
@@ -35,7 +35,7 @@ export function magnification(g: OpticalGeometry): number {
 /**
  * Size of one image pixel in the flow (mid-)plane, `p · Z_A · (Z_B − f) / (f · Z_B)` with
  * `Z_A = Z_B − Z_D`: the camera is focused on the background (image distance `v = f·Z_B/(Z_B − f)`),
- * so the flow plane is imaged with magnification `v / Z_A` (DESIGN §1).
+ * so the flow plane is imaged with magnification `v / Z_A`.
  * @returns metres per pixel in the flow plane.
  */
 export function flowPlanePixelSize(g: OpticalGeometry): number {

@@ -1,7 +1,7 @@
 /**
  * Setup planner: what a planned BOS setup will see, before anything is built.
  *
- * Formulas and sources (thin lens, paraxial, camera focused on the background; DESIGN §1):
+ * Formulas and sources (thin lens, paraxial, camera focused on the background):
  * - background magnification `M = f/(Z_B − f)` (thin lens);
  * - field of view at the background = sensor size · p / M; in the flow plane = sensor size · s_flow with
  *   `s_flow = p·Z_A·(Z_B − f)/(f·Z_B)`, `Z_A = Z_B − Z_D` (thin lens: image distance `v = f·Z_B/(Z_B − f)`,

@@ -6,7 +6,7 @@
  * `M = f/(Z_B − f)` (thin lens) and `d_diff = 2.44·N·(1 + M)·λ` (Airy diameter at the image distance;
  * from memory, standard optics). A printed disc of diameter D is treated as a dot of e⁻² diameter D
  * (an approximation: the disc's edge, not a Gaussian's, sets its size). Target 2.5 px: common practice
- * is 2–3 px (DESIGN §3).
+ * is 2–3 px (common practice).
  */
 import { invalidParameter } from '../util/errors.js';
 

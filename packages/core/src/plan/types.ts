@@ -1,5 +1,5 @@
 /**
- * The part of a setup (DESIGN §3a) the planner reads. Structurally the same as the parsed setup file,
+ * The part of a setup (docs/setup.md) the planner reads. Structurally the same as the parsed setup file,
  * so a parsed setup can be passed as is; a plain typed object works too. SI units throughout.
  */
 import type { MediumSpec } from '../optics/medium.js';

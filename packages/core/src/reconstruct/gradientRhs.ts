@@ -5,7 +5,7 @@
  * Least squares on the grid graph: minimise Σ over edges (φ_q − φ_p − t_pq)² where an edge joins two
  * valid 4-neighbours and its target is the trapezoid rule t_pq = h·(g_p + g_q)/2 of the gradient
  * component along the edge. The normal equations are L φ = b with L the graph Laplacian (degree on
- * the diagonal, −1 per neighbour: the 5-point Laplacian with Neumann boundaries, DESIGN §2.5) and
+ * the diagonal, −1 per neighbour: the 5-point Laplacian with Neumann boundaries) and
  * b_p = −Σ_q t_pq. Image frame: x right, y down (row index); steps hx, hy in metres.
  */
 export function gradientRhs(

@@ -2,7 +2,7 @@
  * Planar density from the density gradient: least-squares integration (DCT solver on a full
  * rectangle, multigrid-preconditioned CG on masked grids), then each connected region is shifted so
  * that the mean density over its valid reference nodes equals the reference density (Neumann solve,
- * then anchor; DESIGN §2.5). Regions without reference nodes are left NaN.
+ * then anchor). Regions without reference nodes are left NaN.
  *
  * Frame: integration runs in the image frame (x right, y down = row index) on the vector grid; the
  * y flip to y_m-up happens only in the outputs of reconstructDensity.

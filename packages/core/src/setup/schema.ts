@@ -105,7 +105,7 @@ export const setupSchema = z.strictObject(
   { error: 'a JSON object {camera, geometry, medium, flow, expected?}' },
 );
 
-/** A validated setup (DESIGN §3a). Lengths in m, densities kg/m³, pressure Pa, wavelength m. */
+/** A validated setup (docs/setup.md). Lengths in m, densities kg/m³, pressure Pa, wavelength m. */
 export type Setup = z.infer<typeof setupSchema>;
 /** The flow part of a setup. */
 export type FlowSpec = z.infer<typeof flowSchema>;

@@ -1,5 +1,5 @@
 /**
- * Synthetic deflection through known density fields (DESIGN §1, §2.7): scenes with an exact density
+ * Synthetic deflection through known density fields (sign and geometry: docs/conventions.md): scenes with an exact density
  * field and the deflection of the line of sight through it, with the physical sign, and the apparent
  * displacement of the background they cause for a given setup, for the dot renderer.
  *
@@ -82,7 +82,7 @@ export function planarGaussianScene(setup: Setup, o: PlanarGaussianOptions): Den
 export interface AxisymmetricGaussianOptions {
   /** Density change on the axis Δρ, kg/m³. */
   readonly amplitude: number;
-  /** Radius parameter σ, m: Δρ·exp(−r²/σ²) (the Abel-pair form of REFERENCES.md). */
+  /** Radius parameter σ, m: Δρ·exp(−r²/σ²) (the form of the standard Gaussian deflection-form Abel pair). */
   readonly sigmaM: number;
   /** Axis direction. Default 'vertical'. */
   readonly axis?: 'vertical' | 'horizontal';
@@ -176,7 +176,7 @@ export interface ObliqueShockOptions {
  * Planar flow over a symmetric wedge (two attached weak oblique shocks from the apex): ρ₁ =
  * referenceDensity upstream, ρ₂ = ρ₁·(ρ₂/ρ₁) between each shock and the wedge; the step is smoothed
  * by a Gaussian of σ = smoothingPx across the shock line (erf profile), as the defocus blur of a
- * background-focused camera would (DESIGN §1). The wedge body hides the background (NaN deflection,
+ * background-focused camera would. The wedge body hides the background (NaN deflection,
  * `hidden` true). Returns also the shock angle and density ratio.
  */
 export function obliqueShockScene(setup: Setup, o: ObliqueShockOptions = {}): DensityScene & { readonly shockAngleRad: number; readonly densityRatio: number } {

@@ -3,7 +3,7 @@
  * tests and benchmarks.
  *
  * Dot model: each dot is a 2-D Gaussian intensity density `a · peak · exp(−r²/(2σ²))` whose e⁻²
- * diameter is `diameterPx = 4σ` (DESIGN §3). A pixel's value is the integral of that density over the
+ * diameter is `diameterPx = 4σ` (docs/conventions.md). A pixel's value is the integral of that density over the
  * pixel's square area (pixel (i, j) covers [i − ½, i + ½] × [j − ½, j + ½]), which factorises into a
  * product of error-function differences, so the image is exact up to quantisation: the sum of one dot
  * over all pixels equals its analytic total `2πσ² · a · peak` (the Gaussian integral

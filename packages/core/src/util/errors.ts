@@ -1,5 +1,5 @@
 /**
- * Error kinds of the library. The CLI maps them to exit codes (DESIGN §3):
+ * Error kinds of the library. The CLI maps them to exit codes (docs/conventions.md):
  * `usage` and `input` → 2, `processing` → 1, `unusable` → 3 (image check verdict only).
  */
 export type ErrorKind = 'usage' | 'input' | 'processing' | 'unusable';
