@@ -5,8 +5,7 @@
  * Exit codes (docs/conventions.md): 0 success (warnings allowed), 1 processing failed, 2 usage or input error,
  * 3 (`check` only) images unusable for measurement.
  */
-import { createHash } from 'node:crypto';
-import { createReadStream, existsSync, promises as fsp, readFileSync, statSync } from 'node:fs';
+import { existsSync, promises as fsp, readFileSync, statSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import path from 'node:path';
 import { RhofieldError, invalidParameter, VERSION } from '@rhofield/core/errors';
@@ -81,17 +80,6 @@ export function reportError(err: unknown, verbose = false): number {
   return EXIT.failed;
 }
 
-/** SHA-256 of a file, hex. */
-export async function sha256File(file: string): Promise<string> {
-  const h = createHash('sha256');
-  await new Promise<void>((resolve, reject) => {
-    createReadStream(file)
-      .on('data', (c) => h.update(c))
-      .on('end', () => resolve())
-      .on('error', reject);
-  });
-  return h.digest('hex');
-}
 
 /** Parse an integer option, rejecting NaN and out-of-range values with the usual message. */
 export function parseIntOpt(name: string, raw: string | number | undefined, min: number, max = Infinity): number | undefined {
@@ -119,7 +107,7 @@ export function requireFile(label: string, file: string): void {
   if (!statSync(file).isFile()) throw new RhofieldError('input', `${label} ${file} is not a file; check the path`);
 }
 
-export { OutputDir, storageError, writeOutputFiles, type OutputDirOptions, type OutputFile } from './outputs.js';
+export { OutputDir, sha256File, storageError, writeOutputFiles, type OutputDirOptions, type OutputFile } from './outputs.js';
 import { writeOutputFiles } from './outputs.js';
 
 /**

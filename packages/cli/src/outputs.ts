@@ -321,7 +321,8 @@ async function realMkdirError(abs: string, e: unknown): Promise<unknown> {
 // ---------------------------------------------------------------------------------------------------
 // manifest
 
-async function sha256(file: string): Promise<string> {
+/** SHA-256 of a file, hex (streamed). */
+export async function sha256File(file: string): Promise<string> {
   const h = createHash('sha256');
   await new Promise<void>((resolve, reject) => {
     createReadStream(file)
@@ -335,7 +336,7 @@ async function sha256(file: string): Promise<string> {
 export async function entryOf(dir: string, name: string): Promise<ManifestEntry> {
   const f = path.join(dir, name);
   const st = await fsp.stat(f);
-  return { name, bytes: st.size, sha256: await sha256(f) };
+  return { name, bytes: st.size, sha256: await sha256File(f) };
 }
 
 function isEntry(x: unknown): x is ManifestEntry {
@@ -388,7 +389,7 @@ export async function ownedEntries(dir: string, m: OutputManifest | null): Promi
     }
     if (!st.isFile() || st.size !== e.bytes) continue;
     // a journal may list the old and the new version of a name: either proves ownership
-    const hash = await sha256(f);
+    const hash = await sha256File(f);
     const match = m.files.find((x) => x.name === e.name && x.bytes === st.size && x.sha256 === hash);
     if (match) owned.set(e.name, match);
   }

@@ -199,7 +199,7 @@ export async function processPair(job: PairJob, outDir: string, onStage: StageCa
   });
 
   const [refHash, measHash, maskHash, setupHash] = await hashes;
-  let maxMagnitude = -Infinity; // a loop, not Math.max(...): large grids overflow the argument list
+  let maxMagnitude = -Infinity; // a running maximum: a spread into Math.max overflows on large grids
   for (let i = 0; i < disp.dxPx.data.length; i++) {
     const m = Math.hypot(disp.dxPx.data[i]!, disp.dyPx.data[i]!);
     if (Number.isFinite(m) && m > maxMagnitude) maxMagnitude = m;

@@ -35,6 +35,7 @@ import { probeImage } from '../batch/probeImage.js';
 import { runBatch, type BatchResult } from '../batch/runner.js';
 import type { PairExecutor } from '../batch/types.js';
 import { BATCH_WORKER_BYTES, checkMemory, imageHeaders, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
+import { describeCommand } from './index.js';
 
 export interface BatchOpts {
   setup?: string;
@@ -319,11 +320,7 @@ export async function batchCommand(o: BatchOpts, executorFactory?: (workers: num
 export function register(program: Command): void {
   program
     .command('batch')
-    .description(
-      'Process a sequence of frames against reference images on all cores: per-pair displacement (and density ' +
-        'with --setup) under OUT/pairs/<frame id>/, then mean, standard deviation and valid-vector counts in ' +
-        'OUT/statistics/. Rerunning the same command resumes; failed pairs are listed and retried on the next run.',
-    )
+    .description(describeCommand('batch'))
     .requiredOption('--frames <pattern>', 'measured frames: numbered pattern (frame_%05d.tif), quoted wildcard pattern ("run/*.png") or multi-page TIFF')
     .requiredOption('--out <dir>', 'batch output folder (created; reused to resume)')
     .option('--reference <file|pattern>', 'reference image for all frames, or a pattern/stack with one reference per frame')

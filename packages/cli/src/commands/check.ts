@@ -8,6 +8,7 @@ import type { Command } from 'commander';
 import { diagnoseImage, diagnosePair, inputError, invalidParameter, loadImage, measureDisplacement, type Field, type Finding } from '@rhofield/core';
 import { EXIT, EXIT_CODES_HELP, Log, parseIntOpt, parseNumOpt, requireFile } from '../common.js';
 import { warnSlowKernels } from '../kernelWarning.js';
+import { describeCommand } from './index.js';
 
 interface CheckOpts {
   window?: string;
@@ -34,7 +35,7 @@ function show(log: Log, title: string, findings: readonly Finding[]): void {
 export function register(program: Command): void {
   program
     .command('check')
-    .description('Check whether a reference image (and optionally a measurement image) is fit for BOS measurement: dot image diameter (e⁻², px), dots per window, contrast, clipped pixels, noise and focus; for a pair, the global shift (camera moved?), the fraction of weak correlation peaks and whether the two images show the same background at all (fewer than 10 % of windows with a correlation peak ≥ 0.5 and ≥ 25 % flagged by the median test: unusable). Damaged files (PNG checksum, TIFF cut short) are refused with exit 2. Each finding comes with advice. Exit code 3 means the images are unusable for measurement.')
+    .description(describeCommand('check'))
     .argument('<ref>', 'reference image (PNG, TIFF, JPEG; colour is converted to grey)')
     .argument('[meas]', 'measurement image of the same size (optional)')
     .option('--window <px>', 'interrogation window side for the dots-per-window figure and the correlation pass: a power of two 16–128, as in displacement (default 32)')

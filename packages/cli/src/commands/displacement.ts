@@ -8,6 +8,7 @@ import { EXIT_CODES_HELP, Log, OutputDir, parseIntOpt, parseNumOpt, requireFile,
 import { DEFAULT_FORMATS, processPair, type PairOptions } from '../pipeline.js';
 import { checkMemory, imageHeaders, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
 import { warnSlowKernels } from '../kernelWarning.js';
+import { describeCommand } from './index.js';
 
 interface PairCliOpts extends GlobalOpts {
   out: string;
@@ -157,7 +158,7 @@ export function register(program: Command): void {
   const schedule = describeSchedule({});
   const d = program
     .command('displacement')
-    .description('measure the dot displacement field between a reference and a measurement photograph')
+    .description(describeCommand('displacement'))
     .argument('<ref>', 'reference image (no flow): PNG, TIFF (8/16-bit, multi-page) or JPEG')
     .argument('<meas>', 'measurement image (through the flow), same size')
     .requiredOption('--out <dir>', 'output folder (new, or any folder: results go in beside other files; --force replaces earlier results)');
@@ -179,7 +180,7 @@ ${EXIT_CODES_HELP}`,
 
   const r = program
     .command('density')
-    .description('measure displacement, then reconstruct density (and temperature) with the optical setup')
+    .description(describeCommand('density'))
     .argument('<ref>', 'reference image (no flow)')
     .argument('<meas>', 'measurement image (through the flow), same size')
     .requiredOption('--setup <file>', 'setup file (JSON: camera, geometry, medium, flow; SI units; at most 1 MiB and 32 levels deep)')

@@ -2,8 +2,9 @@
  * The command registry. Each command module exports `register(program)`; it is loaded only when its
  * command runs (or its help is asked for), so `rhofield --help` and light commands start without
  * loading the image, FFT and worker dependencies of the others. For the top-level help the other
- * commands appear as stubs with the same term and description (tests/cli/commandStubs.test.ts checks
- * them against the real registrations).
+ * commands appear as stubs with the same term and description. The description text lives here only:
+ * each command module takes it with {@link describeCommand} (tests/cli/commandStubs.test.ts checks terms
+ * and descriptions against the real registrations).
  */
 import type { Command } from 'commander';
 
@@ -18,6 +19,13 @@ export interface CommandEntry {
   readonly description: string;
   /** Loads the module that registers this command (a module may register several). */
   readonly load: () => Promise<Register>;
+}
+
+/** The description of command `name` (one text for the stub and the real command). */
+export function describeCommand(name: string): string {
+  const c = COMMANDS.find((k) => k.name === name);
+  if (!c) throw new Error(`no command ${name} in the registry`);
+  return c.description;
 }
 
 const displacement = async (): Promise<Register> => (await import('./displacement.js')).register;

@@ -7,6 +7,7 @@ import type { Command } from 'commander';
 import { RhofieldError } from '@rhofield/core';
 import { EXIT, Log, storageError } from '../common.js';
 import { mergeBatch } from '../batch/runner.js';
+import { describeCommand } from './index.js';
 
 interface MergeOpts {
   json?: boolean;
@@ -25,7 +26,7 @@ function asTyped(e: unknown, dir: string): unknown {
 export function register(program: Command): void {
   program
     .command('merge')
-    .description('Combine the statistics of all shards of a batch (rhofield batch --shard K/N, or a job array) into DIR/statistics.')
+    .description(describeCommand('merge'))
     .argument('<dir>', 'the batch output folder (--out of the shards)')
     .option('--json', 'print a JSON summary on stdout')
     .option('--quiet', 'no messages on stderr except warnings and errors')

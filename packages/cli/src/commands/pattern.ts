@@ -20,6 +20,7 @@ import {
 } from '@rhofield/core';
 import { EXIT_CODES_HELP, Log, parseIntOpt, parseNumOpt, requireFile, writeOutputFiles } from '../common.js';
 import { withSetupFile } from '../inputChecks.js';
+import { describeCommand } from './index.js';
 
 interface PatternOpts {
   width?: string;
@@ -39,7 +40,7 @@ interface PatternOpts {
 export function register(program: Command): void {
   program
     .command('pattern')
-    .description('Write a printable random-dot background: non-overlapping dots at the requested fill, with a scale bar and a label (size, dot diameter, seed) in the bottom margin to check the print with a ruler. PDF and SVG are vector and exact to the page size; PNG is rasterised at --dpi.')
+    .description(describeCommand('pattern'))
     .option('--width <length>', 'page width with unit: mm, cm, m or in (e.g. 297mm); with --setup defaults to the field of view on the background plus margins')
     .option('--height <length>', 'page height with unit (e.g. 210mm)')
     .option('--dot <length>', 'dot diameter with unit (e.g. 0.6mm); with --setup chosen for a 2.5 px dot image')

@@ -6,6 +6,7 @@ import type { Command } from 'commander';
 import { formatPlan, loadSetup, planSetup, setupWarnings, type SetupPlan } from '@rhofield/core/setup';
 import { EXIT_CODES_HELP, Log, parseNumOpt, requireFile } from '../common.js';
 import { withSetupFile } from '../setupErrors.js';
+import { describeCommand } from './index.js';
 
 /** Safety caution shown in --help of commands that plan or imitate real experiments. */
 export const SAFETY_HELP = `
@@ -25,7 +26,7 @@ interface PlanOpts {
 export function register(program: Command): void {
   program
     .command('plan')
-    .description('Predict what a planned setup will measure, before building it: magnification, fields of view, expected displacement, smallest detectable gradient, blur, printed dot size, window size, and the one change that would help most.')
+    .description(describeCommand('plan'))
     .requiredOption('--setup <file>', 'setup file (JSON, at most 1 MiB and 32 levels deep, see docs/input-checks.md); needs camera.fNumber, camera.sensorPx and expected')
     .option('--noise <px>', 'displacement noise of the correlation, px (default 0.05, common practice)')
     .option('--fill <fraction>', 'fill fraction of the printed pattern used for the window advice (default 0.4)')

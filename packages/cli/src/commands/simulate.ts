@@ -24,6 +24,7 @@ import { SAFETY_HELP } from './plan.js';
 import { checkMemory, MAX_MEMORY_HELP, memoryBudget } from '../memoryGuard.js';
 import { withSetupFile } from '../inputChecks.js';
 import { warnSlowKernels } from '../kernelWarning.js';
+import { describeCommand } from './index.js';
 
 interface SimulateOpts extends GlobalOpts {
   setup: string;
@@ -112,9 +113,7 @@ function warnings(r: SimulationResult): string[] {
 export function register(program: Command): void {
   program
     .command('simulate')
-    .description(
-      'Dry run of a planned setup: render the reference and disturbed dot images it would record for a known density field (planar Gaussian hot spot, axisymmetric plume, or a wedge with oblique shocks), blurred by the setup\'s defocus, measure displacement and density from them, and report the error of the whole chain.',
-    )
+    .description(describeCommand('simulate'))
     .requiredOption('--setup <file>', 'setup file (JSON, see docs/input-checks.md) with camera.fNumber, camera.sensorPx and expected (Δρ or ΔT and lengthScale)')
     .requiredOption('--field <kind>', `known density field: ${SIMULATION_FIELD_KINDS.join(', ')} (gaussian and plume use expected; shock a wedge, see --mach, --wedge)`)
     .option('--size <px>', 'side of the simulated square image crop, px, 64–2048 (default 256)')

@@ -23,6 +23,7 @@ import {
 } from '@rhofield/core';
 import { EXIT_CODES_HELP, Log, OutputDir, parseNumOpt, writeOutputFiles, type GlobalOpts } from '../common.js';
 import { MANIFEST_NAME } from '../outputs.js';
+import { describeCommand } from './index.js';
 
 const KINDS = ['knife-edge', 'colour', 'shadowgraph', 'contour'] as const;
 type Kind = (typeof KINDS)[number];
@@ -149,7 +150,7 @@ async function runView(kindRaw: string, dir: string, o: ViewOpts): Promise<void>
 export function register(program: Command): void {
   program
     .command('view')
-    .description('render classic views from a measured result: knife-edge, colour schlieren, shadowgraph, contours')
+    .description(describeCommand('view'))
     .argument('<kind>', `one of ${KINDS.join(', ')}`)
     .argument('<resultDir>', 'output folder of rhofield displacement or density (with npy files)')
     .option('--angle <deg>', 'knife-edge: direction of sensitivity in degrees; 0° = horizontal deflection (a vertical knife edge), 90° = upward', '0')
